@@ -1,0 +1,141 @@
+import { describe, expect, it } from 'vitest';
+import { linearCurve, seededRandom, withNoise } from '../../../tests/support/analytic';
+import { analyse, fitEllipse } from './analyse';
+import type { Parameter, TestConditions } from './types';
+
+const at = (sourcePeakV: number, sourceResistanceOhm: number, frequencyHz: number): TestConditions => ({
+	sourcePeakV,
+	sourceResistanceOhm,
+	frequencyHz
+});
+
+function value(p: Parameter | undefined): number {
+	if (!p || !('value' in p) || typeof p.value !== 'number') {
+		throw new Error(`expected a measured value, got ${JSON.stringify(p)}`);
+	}
+	return p.value;
+}
+
+describe('analyse: linear parts', () => {
+	// Ohm's law and the voltage divider: V = Vs·R/(R + Rs), so the slope recovers R exactly.
+	it.each([
+		[2200, at(10, 1000, 60)],
+		[100, at(5, 1000, 1000)],
+		[47, at(2, 10, 50)],
+		[68e3, at(20, 10e3, 120)],
+		[1e6, at(50, 100e3, 60)]
+	])('recovers a %d Ω resistor from its slope (Ohm’s law)', (ohms, c) => {
+		const a = analyse(linearCurve({ kind: 'resistor', ohms }, c));
+		expect(a.class).toBe('resistive');
+		expect(value(a.parameters.resistanceOhm)).toBeCloseTo(ohms, 6 - Math.round(Math.log10(ohms)));
+		expect(a.residual).toBeLessThan(1e-6);
+	});
+
+	// Textbook: Xc = 1/(2πfC); the capacitor's peak current is Vs/√(Rs² + Xc²).
+	it.each([
+		[1e-6, at(10, 1000, 60)],
+		[0.47e-6, at(10, 3300, 60)],
+		[10e-9, at(5, 10e3, 1000)],
+		[100e-6, at(2, 100, 50)]
+	])('recovers a %d F capacitor and its textbook peak current', (farads, c) => {
+		const curve = linearCurve({ kind: 'capacitor', farads }, c);
+		const xc = 1 / (2 * Math.PI * c.frequencyHz * farads);
+		const peak = Math.max(...curve.i.map(Math.abs));
+		expect(peak).toBeCloseTo(c.sourcePeakV / Math.hypot(c.sourceResistanceOhm, xc), 4);
+		const a = analyse(curve);
+		expect(a.class).toBe('capacitive');
+		expect(value(a.parameters.capacitanceF) / farads).toBeCloseTo(1, 6);
+		expect(a.parameters.leakageOhm).toHaveProperty('unmeasurable');
+	});
+
+	// Textbook R‖C: Y = 1/R + jωC.
+	it('separates a leaky capacitor into C and its parallel leakage (R‖C phasor fit)', () => {
+		const a = analyse(linearCurve({ kind: 'capacitor', farads: 1e-6, leakageOhm: 4700 }, at(10, 1000, 60)));
+		expect(a.class).toBe('capacitive');
+		expect(value(a.parameters.capacitanceF) / 1e-6).toBeCloseTo(1, 6);
+		expect(value(a.parameters.leakageOhm) / 4700).toBeCloseTo(1, 6);
+	});
+
+	// Textbook R+L: Z = R + jωL, XL = 2πfL.
+	it('separates an inductor into L and its winding resistance (R+L phasor fit)', () => {
+		const a = analyse(linearCurve({ kind: 'inductor', henries: 0.5, seriesOhm: 33 }, at(10, 1000, 400)));
+		expect(a.class).toBe('inductive');
+		expect(value(a.parameters.inductanceH) / 0.5).toBeCloseTo(1, 6);
+		expect(value(a.parameters.seriesResistanceOhm) / 33).toBeCloseTo(1, 6);
+	});
+
+	// Textbook: an open carries no current, so V = ±Vs; a short has no voltage, so I = ±Vs/Rs.
+	it('calls a curve at ±Vs with no current an open, and one at ±Vs/Rs with no voltage a short', () => {
+		expect(analyse(linearCurve({ kind: 'open' }, at(10, 1000, 60))).class).toBe('open');
+		expect(analyse(linearCurve({ kind: 'short' }, at(10, 1000, 60))).class).toBe('short');
+	});
+
+	// Common practice, no source: a 6.3 V rms secondary is ≈ 8.9 V peak; with 3.3 kΩ a short draws
+	// ≈ 2.7 mA peak.
+	it('reads a short on a 6.3 V rms, 3.3 kΩ tester as ≈ 2.7 mA peak', () => {
+		const curve = linearCurve({ kind: 'short' }, at(6.3 * Math.SQRT2, 3300, 60));
+		expect(Math.max(...curve.i)).toBeCloseTo(2.7e-3, 4);
+		expect(analyse(curve).class).toBe('short');
+	});
+
+	// The tester's resolution: 1 MΩ at Rs = 100 Ω carries 10⁻⁴ of full-scale current (Ohm's law), far
+	// below what a bench resolves, so it must read as an open and say so.
+	it('reports a 1 MΩ resistor at Rs = 100 Ω as an open with its resistance unmeasurable', () => {
+		const a = analyse(linearCurve({ kind: 'resistor', ohms: 1e6 }, at(10, 100, 60)));
+		expect(a.class).toBe('open');
+		expect(a.parameters.resistanceOhm).toHaveProperty('unmeasurable');
+	});
+
+	// Common practice, no source: 1000 µF at 60 Hz is ≈ 2.65 Ω (Xc = 1/(2πfC)) and reads almost as a
+	// short; 0.47 µF at 60 Hz with 3.3 kΩ (Xc ≈ 5.6 kΩ) is a clear ellipse.
+	it('reads 1000 µF at 60 Hz as a short and 0.47 µF at 60 Hz, 3.3 kΩ as a capacitor', () => {
+		const big = analyse(linearCurve({ kind: 'capacitor', farads: 1000e-6 }, at(8.9, 3300, 60)));
+		expect(big.class).toBe('short');
+		expect(big.parameters.capacitanceF).toHaveProperty('unmeasurable');
+		const small = analyse(linearCurve({ kind: 'capacitor', farads: 0.47e-6 }, at(8.9, 3300, 60)));
+		expect(small.class).toBe('capacitive');
+		expect(value(small.parameters.capacitanceF) / 0.47e-6).toBeCloseTo(1, 4);
+	});
+
+	// A series R–C is still a linear part with a leading current: the textbook phasor Z = R − j/(ωC).
+	it('calls a series R–C capacitive (its phasor leads)', () => {
+		const a = analyse(linearCurve({ kind: 'series-rc', ohms: 470, farads: 2.2e-6 }, at(10, 1000, 60)));
+		expect(a.class).toBe('capacitive');
+	});
+
+	it('keeps parameters within their stated uncertainty under noise (3 σ, 40 seeded draws)', () => {
+		const rand = seededRandom(7);
+		const c = at(10, 1000, 60);
+		let outside = 0;
+		for (let k = 0; k < 40; k++) {
+			const a = analyse(withNoise(linearCurve({ kind: 'resistor', ohms: 2200 }, c), 0.005, rand));
+			const p = a.parameters.resistanceOhm;
+			if (!p || !('uncertainty' in p) || typeof p.value !== 'number') throw new Error('no resistance');
+			expect(a.class).toBe('resistive');
+			if (Math.abs(p.value - 2200) > 3 * (p.uncertainty ?? 0)) outside++;
+		}
+		// Under Gaussian noise 3 σ holds 99.7 % of the time; allow two of forty.
+		expect(outside).toBeLessThanOrEqual(2);
+	});
+});
+
+describe('fitEllipse (Fitzgibbon, Pilu & Fisher 1999 direct least squares)', () => {
+	// Analytic geometry: (x − 0.1)²/0.5² + (y + 0.2)²/0.2² = 1 expands to a known conic, centre (0.1, −0.2).
+	it('recovers a known ellipse and its centre', () => {
+		const x: number[] = [];
+		const y: number[] = [];
+		for (let k = 0; k < 64; k++) {
+			const t = (2 * Math.PI * k) / 64;
+			x.push(0.1 + 0.5 * Math.cos(t));
+			y.push(-0.2 + 0.2 * Math.sin(t));
+		}
+		const fit = fitEllipse(x, y);
+		expect(fit).toBeDefined();
+		expect(fit!.centre[0]).toBeCloseTo(0.1, 8);
+		expect(fit!.centre[1]).toBeCloseTo(-0.2, 8);
+		// a/c = (1/0.25)/(1/0.04) = 0.16, b = 0.
+		const [a, b, c] = fit!.conic;
+		expect(a / c).toBeCloseTo(0.16, 8);
+		expect(b / c).toBeCloseTo(0, 8);
+	});
+});
