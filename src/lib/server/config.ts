@@ -7,34 +7,37 @@ import { z } from 'zod';
  */
 const emptyToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);
 
+const urlString = (protocols: string[], what: string) =>
+	z
+		.string()
+		.refine((s) => {
+			try {
+				return protocols.includes(new URL(s).protocol);
+			} catch {
+				return false;
+			}
+		}, `${what} must be a URL starting with ${protocols.map((p) => `${p}//`).join(' or ')}`);
+
+// Optionality sits inside the preprocess: an empty string becomes undefined first, then may be absent.
 const url = (protocols: string[], what: string) =>
-	z.preprocess(
-		emptyToUndefined,
-		z
-			.string()
-			.refine((s) => {
-				try {
-					return protocols.includes(new URL(s).protocol);
-				} catch {
-					return false;
-				}
-			}, `${what} must be a URL starting with ${protocols.map((p) => `${p}//`).join(' or ')}`)
-	);
+	z.preprocess(emptyToUndefined, urlString(protocols, what));
+const optionalUrl = (protocols: string[], what: string) =>
+	z.preprocess(emptyToUndefined, urlString(protocols, what).optional());
 
 const configSchema = z.object({
 	DATABASE_URL: url(['postgres:', 'postgresql:'], 'DATABASE_URL'),
-	ORIGIN: url(['http:', 'https:'], 'ORIGIN').optional(),
+	ORIGIN: optionalUrl(['http:', 'https:'], 'ORIGIN'),
 	AUTH_SECRET: z.preprocess(
 		emptyToUndefined,
 		z.string().min(32, 'AUTH_SECRET must be at least 32 characters (npm start generates one).').optional()
 	),
-	SMTP_URL: url(['smtp:', 'smtps:'], 'SMTP_URL').optional(),
+	SMTP_URL: optionalUrl(['smtp:', 'smtps:'], 'SMTP_URL'),
 	SMTP_FROM: z.preprocess(emptyToUndefined, z.string().optional()),
-	MEILISEARCH_URL: url(['http:', 'https:'], 'MEILISEARCH_URL').optional(),
+	MEILISEARCH_URL: optionalUrl(['http:', 'https:'], 'MEILISEARCH_URL'),
 	MEILISEARCH_KEY: z.preprocess(emptyToUndefined, z.string().optional()),
 	DATABASE_POOL_MAX: z.preprocess(
 		emptyToUndefined,
-		z.coerce.number().int('DATABASE_POOL_MAX must be a whole number.').min(1).max(200).default(10)
+		z.coerce.number().int('DATABASE_POOL_MAX must be a whole number.').min(1).max(200).optional().default(10)
 	)
 });
 
@@ -53,7 +56,7 @@ export function loadConfig(source: Record<string, string | undefined>): Config {
 	throw new ConfigError(
 		parsed.error.issues.map((issue) => {
 			const name = issue.path.join('.');
-			return issue.code === 'invalid_type' && issue.input === undefined
+			return emptyToUndefined(source[name]) === undefined
 				? `${name} is not set.`
 				: `${name}: ${issue.message}`;
 		})

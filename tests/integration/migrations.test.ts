@@ -1,0 +1,63 @@
+import { NO_MIGRATIONS, sql } from 'kysely';
+import { afterAll, beforeEach, describe, expect, it } from 'vitest';
+import { assertMigrated, createMigrator } from '../../src/lib/server/db/migrate';
+import { seedDemo, DEMO_ORGANISATION } from '../../src/lib/server/demo/seed';
+import { openTestDb, truncateAll } from './setup-db';
+
+const db = openTestDb();
+afterAll(() => db.destroy());
+beforeEach(() => truncateAll(db));
+
+async function tables(): Promise<string[]> {
+	const { rows } = await sql<{ t: string }>`
+		select tablename as t from pg_tables where schemaname = 'public' and tablename not like 'kysely_migration%'
+		order by tablename
+	`.execute(db);
+	return rows.map((r) => r.t);
+}
+
+describe('migrations', () => {
+	it('go all the way down and back up again on the real server', async () => {
+		const migrator = createMigrator(db);
+		const all = await migrator.getMigrations();
+		expect(all.length).toBeGreaterThan(0);
+		expect(all.every((m) => m.executedAt)).toBe(true);
+		const before = await tables();
+		expect(before).toContain('organisation');
+
+		assertMigrated(await migrator.migrateTo(NO_MIGRATIONS));
+		expect(await tables()).toEqual([]);
+
+		assertMigrated(await migrator.migrateToLatest());
+		expect(await tables()).toEqual(before);
+	});
+});
+
+describe('organisation table', () => {
+	it('round-trips a row through Kysely with camelCase columns', async () => {
+		const inserted = await db
+			.insertInto('organisation')
+			.values({ slug: 'bench-one', name: 'Bench One' })
+			.returning(['id', 'createdAt'])
+			.executeTakeFirstOrThrow();
+		expect(inserted.id).toMatch(/^[0-9a-f-]{36}$/);
+		expect(inserted.createdAt).toBeInstanceOf(Date);
+		const found = await db.selectFrom('organisation').selectAll().where('id', '=', inserted.id).executeTakeFirst();
+		expect(found).toMatchObject({ slug: 'bench-one', name: 'Bench One' });
+	});
+
+	it('refuses a duplicate slug and a malformed one at the database level', async () => {
+		await db.insertInto('organisation').values({ slug: 'dup', name: 'A' }).execute();
+		await expect(db.insertInto('organisation').values({ slug: 'dup', name: 'B' }).execute()).rejects.toMatchObject({ code: '23505' });
+		await expect(db.insertInto('organisation').values({ slug: 'Bad Slug', name: 'C' }).execute()).rejects.toMatchObject({ code: '23514' });
+	});
+});
+
+describe('seedDemo', () => {
+	it('seeds an empty database once and leaves it alone afterwards', async () => {
+		expect(await seedDemo(db)).toBe(true);
+		expect(await seedDemo(db)).toBe(false);
+		const orgs = await db.selectFrom('organisation').select('slug').execute();
+		expect(orgs.map((o) => o.slug)).toContain(DEMO_ORGANISATION.slug);
+	});
+});

@@ -1,0 +1,45 @@
+import { describe, expect, it } from 'vitest';
+import { ConfigError, loadConfig } from '../../src/lib/server/config';
+
+const base = { DATABASE_URL: 'postgres://curvelore@127.0.0.1:54329/curvelore' };
+
+describe('loadConfig', () => {
+	it('accepts a minimal environment and fills defaults', () => {
+		const config = loadConfig(base);
+		expect(config.DATABASE_URL).toBe(base.DATABASE_URL);
+		expect(config.DATABASE_POOL_MAX).toBe(10);
+		expect(config.SMTP_URL).toBeUndefined();
+	});
+
+	it('treats empty strings as unset', () => {
+		const config = loadConfig({ ...base, SMTP_URL: '', MEILISEARCH_URL: '  ' });
+		expect(config.SMTP_URL).toBeUndefined();
+		expect(config.MEILISEARCH_URL).toBeUndefined();
+	});
+
+	it('says which variable is missing', () => {
+		expect(() => loadConfig({})).toThrowError(/DATABASE_URL is not set/);
+	});
+
+	it('refuses a database URL of the wrong kind and lists every problem at once', () => {
+		try {
+			loadConfig({ DATABASE_URL: 'mysql://x/y', ORIGIN: 'localhost:3000', DATABASE_POOL_MAX: '2.5' });
+			expect.unreachable('loadConfig should have thrown');
+		} catch (e) {
+			expect(e).toBeInstanceOf(ConfigError);
+			const problems = (e as ConfigError).problems;
+			expect(problems).toHaveLength(3);
+			expect(problems[0]).toMatch(/DATABASE_URL.*postgres:\/\//);
+			expect(problems[1]).toMatch(/ORIGIN.*http:\/\//);
+			expect(problems[2]).toMatch(/whole number/);
+		}
+	});
+
+	it('refuses a short AUTH_SECRET', () => {
+		expect(() => loadConfig({ ...base, AUTH_SECRET: 'short' })).toThrowError(/at least 32/);
+	});
+
+	it('coerces the pool size from its string form', () => {
+		expect(loadConfig({ ...base, DATABASE_POOL_MAX: '25' }).DATABASE_POOL_MAX).toBe(25);
+	});
+});
