@@ -9,6 +9,8 @@ export type Generated<T> = T extends ColumnType<infer S, infer I, infer U>
   ? ColumnType<S, I | undefined, U>
   : ColumnType<T, T | undefined, T>;
 
+export type Int8 = ColumnType<string, bigint | number | string, bigint | number | string>;
+
 export type Json = JsonValue;
 
 export type JsonArray = JsonValue[];
@@ -23,6 +25,21 @@ export type JsonValue = JsonArray | JsonObject | JsonPrimitive;
 
 export type Timestamp = ColumnType<Date, Date | string, Date | string>;
 
+export interface Account {
+  accessToken: string | null;
+  expiresAt: number | null;
+  id: Generated<string>;
+  idToken: string | null;
+  provider: string;
+  providerAccountId: string;
+  refreshToken: string | null;
+  scope: string | null;
+  sessionState: string | null;
+  tokenType: string | null;
+  type: string;
+  userId: string;
+}
+
 export interface AppMeta {
   key: string;
   updatedAt: Generated<Timestamp>;
@@ -36,7 +53,41 @@ export interface Organisation {
   slug: string;
 }
 
+export interface Session {
+  expires: Timestamp;
+  id: Generated<string>;
+  sessionToken: string;
+  userId: string;
+}
+
+export interface SignInRequest {
+  id: Generated<Int8>;
+  keyHash: string;
+  requestedAt: Generated<Timestamp>;
+  scope: string;
+}
+
+export interface User {
+  createdAt: Generated<Timestamp>;
+  email: string;
+  emailVerified: Timestamp | null;
+  id: Generated<string>;
+  image: string | null;
+  name: string | null;
+}
+
+export interface VerificationToken {
+  expires: Timestamp;
+  identifier: string;
+  token: string;
+}
+
 export interface DB {
+  Account: Account;
   appMeta: AppMeta;
   organisation: Organisation;
+  Session: Session;
+  signInRequest: SignInRequest;
+  User: User;
+  VerificationToken: VerificationToken;
 }
