@@ -6,7 +6,8 @@
 // root the server runs as the `postgres` OS user, since PostgreSQL refuses to run as root. When
 // DATABASE_URL is set, that server is used and nothing here starts or stops anything.
 import { existsSync, mkdirSync, readFileSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { createHash } from 'node:crypto';
+import { dirname, join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { DATA_DIR, capture, die, ensureDebianPackage, isRoot, portInUse, requireNode, step } from './lib/run.js';
 
@@ -36,26 +37,30 @@ function findBinDir() {
 	return versions.length ? join(base, versions[0], 'bin') : null;
 }
 
-/** Where the cluster lives; falls back outside the checkout when the postgres user cannot reach it. */
+/**
+ * Where the cluster lives: .data/postgres, unless the postgres OS user cannot enter the checkout
+ * (a clone under a private home directory, mode 700). Then the cluster is kept in a directory of
+ * its own under /var/tmp named after the checkout, and a note says so.
+ */
+let resolvedDir = null;
 function dataDir() {
-	return join(DATA_DIR, 'postgres');
+	if (resolvedDir) return resolvedDir;
+	const inCheckout = join(DATA_DIR, 'postgres');
+	if (!isRoot() || capture('runuser', ['-u', 'postgres', '--', 'test', '-x', DATA_DIR]).status === 0) {
+		resolvedDir = inCheckout;
+	} else {
+		const id = createHash('sha256').update(DATA_DIR).digest('hex').slice(0, 12);
+		resolvedDir = `/var/tmp/curvelore-${id}/postgres`;
+		mkdirSync(dirname(resolvedDir), { recursive: true, mode: 0o755 });
+		writeFileSync(join(DATA_DIR, 'postgres-location'), resolvedDir + '\n');
+	}
+	return resolvedDir;
 }
 
 /** Runs a server binary as the postgres user when we are root. */
 function asServerUser(cmd, args) {
 	if (isRoot()) return capture('runuser', ['-u', 'postgres', '--', cmd, ...args]);
 	return capture(cmd, args);
-}
-
-function checkReachable(dir) {
-	if (!isRoot()) return;
-	const r = capture('runuser', ['-u', 'postgres', '--', 'test', '-x', dir]);
-	if (r.status !== 0) {
-		die(
-			`The postgres user cannot enter ${dir} (a parent directory is private, e.g. mode 700). ` +
-				`Clone Curvelore under a directory other users can traverse, or set DATABASE_URL to an existing server.`
-		);
-	}
 }
 
 /** Reads postmaster.pid and reports whether it names a live postgres serving our data directory. */
@@ -87,7 +92,7 @@ function initCluster(bin, dir) {
 	const scratch = `${dir}.init-${process.pid}`;
 	rmSync(scratch, { recursive: true, force: true });
 	mkdirSync(scratch, { recursive: true, mode: 0o700 });
-	if (isRoot()) capture('chown', ['-R', 'postgres:postgres', DATA_DIR]);
+	if (isRoot()) capture('chown', ['-R', 'postgres:postgres', scratch]);
 	step('Creating the database cluster (initdb)…');
 	const r = asServerUser(join(bin, 'initdb'), [
 		'-D',
@@ -146,9 +151,9 @@ export async function ensurePostgres() {
 	if (process.env.DATABASE_URL) return { started: false, external: true };
 	ensureDebianPackage('postgresql', () => findBinDir() !== null, 'The local database');
 	const bin = /** @type {string} */ (findBinDir());
-	const dir = dataDir();
 	mkdirSync(DATA_DIR, { recursive: true });
-	checkReachable(DATA_DIR);
+	const dir = dataDir();
+	if (!dir.startsWith(DATA_DIR)) step(`The postgres user cannot enter this checkout; keeping the database in ${dir}.`);
 
 	if (existsSync(dir) && !existsSync(join(dir, 'PG_VERSION'))) {
 		step('Removing an incomplete database directory from an earlier failed start.');

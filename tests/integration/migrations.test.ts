@@ -3,6 +3,8 @@ import { afterAll, beforeEach, describe, expect, it } from 'vitest';
 import { assertMigrated, createMigrator } from '../../src/lib/server/db/migrate';
 import { seedDemo, DEMO_ORGANISATION } from '../../src/lib/server/demo/seed';
 import { openTestDb, truncateAll } from './setup-db';
+import { createDb } from '../../src/lib/server/db/connect';
+import { databaseStatus } from '../../src/lib/server/db/status';
 
 const db = openTestDb();
 afterAll(() => db.destroy());
@@ -59,5 +61,23 @@ describe('seedDemo', () => {
 		expect(await seedDemo(db)).toBe(false);
 		const orgs = await db.selectFrom('organisation').select('slug').execute();
 		expect(orgs.map((o) => o.slug)).toContain(DEMO_ORGANISATION.slug);
+	});
+});
+
+describe('databaseStatus', () => {
+	it('reports the newest applied migration on the real server', async () => {
+		const status = await databaseStatus(db);
+		const newest = (await createMigrator(db).getMigrations()).map((m) => m.name).sort().at(-1);
+		expect(status).toEqual({ reachable: true, migration: newest });
+	});
+
+	it('reports an unreachable server as such instead of throwing', async () => {
+		// Port 1 on loopback: nothing listens there, so the connection is refused at once.
+		const down = createDb('postgres://nobody@127.0.0.1:1/none', { max: 1 });
+		try {
+			expect(await databaseStatus(down)).toEqual({ reachable: false, migration: null });
+		} finally {
+			await down.destroy();
+		}
 	});
 });

@@ -1,7 +1,7 @@
 import { building } from '$app/environment';
-import { sql } from 'kysely';
 import { config } from '../env';
 import { createDb } from './connect';
+import { databaseStatus } from './status';
 
 export type { Database } from './connect';
 
@@ -21,16 +21,7 @@ if (!building) {
 	});
 }
 
-/** Whether the database answers, and the newest migration applied (null when none). */
-export async function databaseStatus(): Promise<{ reachable: boolean; migration: string | null }> {
-	try {
-		const row = await sql<{ name: string | null }>`
-			select (select name from kysely_migration order by name desc limit 1) as name
-		`.execute(db);
-		return { reachable: true, migration: row.rows[0]?.name ?? null };
-	} catch (e) {
-		// kysely_migration missing means reachable but never migrated.
-		if (e instanceof Error && /kysely_migration/.test(e.message)) return { reachable: true, migration: null };
-		return { reachable: false, migration: null };
-	}
+/** Whether the app's database answers, and the newest migration applied. */
+export function appDatabaseStatus() {
+	return databaseStatus(db);
 }

@@ -1,11 +1,11 @@
 import { json } from '@sveltejs/kit';
 import { version } from '$app/environment';
-import { databaseStatus } from '$lib/server/db';
+import { appDatabaseStatus } from '$lib/server/db';
 import type { RequestHandler } from './$types';
 
 /** Liveness and readiness for load balancers and the start script. Public: reveals no data. */
 export const GET: RequestHandler = async () => {
-	const database = await databaseStatus();
+	const database = await appDatabaseStatus();
 	return json(
 		{ status: database.reachable ? 'ok' : 'unavailable', version, database },
 		{ status: database.reachable ? 200 : 503, headers: { 'cache-control': 'no-store' } }
