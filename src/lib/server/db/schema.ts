@@ -23,6 +23,8 @@ export type JsonPrimitive = boolean | number | string | null;
 
 export type JsonValue = JsonArray | JsonObject | JsonPrimitive;
 
+export type MemberRole = "admin" | "author" | "contributor" | "viewer";
+
 export type Timestamp = ColumnType<Date, Date | string, Date | string>;
 
 export interface Account {
@@ -40,10 +42,56 @@ export interface Account {
   userId: string;
 }
 
+export interface ApiToken {
+  createdAt: Generated<Timestamp>;
+  id: Generated<string>;
+  lastUsedAt: Timestamp | null;
+  name: string;
+  orgId: string;
+  prefix: string;
+  revokedAt: Timestamp | null;
+  role: MemberRole;
+  tokenHash: string;
+  userId: string;
+}
+
 export interface AppMeta {
   key: string;
   updatedAt: Generated<Timestamp>;
   value: Json;
+}
+
+export interface AuditLog {
+  action: string;
+  actorId: string | null;
+  at: Generated<Timestamp>;
+  details: Generated<Json>;
+  id: Generated<Int8>;
+  orgId: string;
+  subject: string | null;
+}
+
+export interface Invitation {
+  acceptedAt: Timestamp | null;
+  acceptedBy: string | null;
+  createdAt: Generated<Timestamp>;
+  email: string;
+  expiresAt: Timestamp;
+  id: Generated<string>;
+  invitedBy: string | null;
+  lastSentAt: Generated<Timestamp>;
+  orgId: string;
+  revokedAt: Timestamp | null;
+  role: MemberRole;
+  tokenHash: string;
+}
+
+export interface Membership {
+  joinedAt: Generated<Timestamp>;
+  lastActiveAt: Timestamp | null;
+  orgId: string;
+  role: MemberRole;
+  userId: string;
 }
 
 export interface Organisation {
@@ -84,7 +132,11 @@ export interface VerificationToken {
 
 export interface DB {
   Account: Account;
+  apiToken: ApiToken;
   appMeta: AppMeta;
+  auditLog: AuditLog;
+  invitation: Invitation;
+  membership: Membership;
   organisation: Organisation;
   Session: Session;
   signInRequest: SignInRequest;
