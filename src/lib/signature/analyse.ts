@@ -32,7 +32,7 @@ export const OPEN_SHORT_LEVEL = 0.005;
  * A curve that no candidate explains better than this RMS fraction of full scale (or three times the
  * curve's own noise, whichever is larger) is called `complex`.
  */
-export const COMPLEX_RESIDUAL = 0.012;
+export const COMPLEX_RESIDUAL = 0.02;
 
 /** Harmonics kept when judging open and short (a knee needs a few to show its peak). */
 const LOW_PASS_HARMONICS = 12;
@@ -66,6 +66,9 @@ interface Branch {
 	cov: number[][];
 	/** Largest branch current seen. */
 	peak: number;
+	/** ln Is = −a/b and Is itself (normalised saturation current of the Shockley term). */
+	lnIs: number;
+	isat: number;
 }
 
 /**
@@ -90,8 +93,14 @@ export function analyse(curve: CanonicalCurve): Analysis {
 	}
 
 	const sigma = Math.max(estimateNoise(vn, cn), 1e-6);
-	/** Standard deviation of one component of a DFT-bin phasor under white noise σ. */
-	const sigmaPhasor = sigma * Math.sqrt(2 / n);
+	// Noise on one component of a DFT-bin phasor. Under white noise it is σ·√(2/N); a capture with few
+	// samples a period reaches the grid by interpolation, which makes its noise smooth (the
+	// second-difference estimate then sees too little) and piles it onto the low harmonics. So also
+	// measure it where it matters: harmonics 2…13, which a linear part leaves empty.
+	const sigmaPhasor = Math.max(sigma * Math.sqrt(2 / n), harmonicNoise(vn, cn, sin, cos, 2, 13));
+	// For parts without memory, points at θ and π − θ see the same source voltage, so their
+	// difference is noise whatever its spectrum.
+	const sigmaStatic = Math.max(sigma, mirrorNoise(vn, cn));
 	const v1 = phasor(vn, sin, cos);
 	const i1 = phasor(cn, sin, cos);
 	const v0 = mean(vn);
@@ -102,7 +111,7 @@ export function analyse(curve: CanonicalCurve): Analysis {
 	// a level the remaining noise cannot reach.
 	const peakI = peakAbs(lowPass(cn, sin, cos, LOW_PASS_HARMONICS));
 	const peakV = peakAbs(lowPass(vn, sin, cos, LOW_PASS_HARMONICS));
-	const lowPassNoise = sigma * Math.sqrt((2 * LOW_PASS_HARMONICS + 1) / n);
+	const lowPassNoise = sigmaPhasor * Math.sqrt(LOW_PASS_HARMONICS + 0.5);
 	const openLevel = Math.max(OPEN_SHORT_LEVEL, 4 * lowPassNoise);
 	const shortLevel = openLevel;
 	if (peakI < openLevel) {
@@ -155,9 +164,9 @@ export function analyse(curve: CanonicalCurve): Analysis {
 		linearCandidate(vn, cn, sin, cos, v0, i0, v1, i1, sigmaPhasor, { rs, omega })
 	);
 	for (const polarity of [1, -1] as const) {
-		const j = junctionCandidate(vn, cn, sin, sigma, polarity, { vs, rs });
+		const j = junctionCandidate(vn, cn, sin, sigmaStatic, polarity, { vs, rs });
 		if (j) candidates.push(j);
-		const z = zenerCandidate(vn, cn, sin, sigma, polarity, { vs, rs });
+		const z = zenerCandidate(vn, cn, sin, sigmaStatic, polarity, { vs, rs });
 		if (z) candidates.push(z);
 	}
 
@@ -470,7 +479,8 @@ function fitBranch(
 		const cov = [0, 1, 2].map((r) =>
 			[0, 1, 2].map((s) => (map[r] < 0 || map[s] < 0 ? 0 : fit.cov[map[r]][map[s]]))
 		);
-		return { a: fit.coef[0], b, c, cov, peak };
+		const lnIs = b > 1e-9 ? -fit.coef[0] / b : 0;
+		return { a: fit.coef[0], b, c, cov, peak, lnIs, isat: Math.exp(lnIs) };
 	}
 	return undefined;
 }
@@ -480,10 +490,8 @@ function branchX(br: Branch, y: number): number {
 	if (y <= 0) return 0;
 	let x: number;
 	if (br.b > 1e-9) {
-		// b·ln(1 + y/Is) with Is = exp(−a/b), written so that a tiny Is cannot overflow.
-		const lnIs = -br.a / br.b;
-		const lnRatio = lnIs > -700 ? Math.log1p(y / Math.exp(lnIs)) : Math.log(y) - lnIs;
-		x = br.b * lnRatio;
+		// b·ln(1 + y/Is) = b·(ln(Is + y) − ln Is) with ln Is = −a/b; Is may underflow to 0 harmlessly.
+		x = br.b * (Math.log(y + br.isat) - br.lnIs);
 	} else {
 		x = br.a;
 	}
@@ -510,14 +518,24 @@ function modelPoint(
 	}
 	const target = Math.abs(q);
 	const sign = q > 0 ? p : -p;
+	// Newton's method kept inside a bisection bracket [lo, hi] (f(lo) ≤ 0 ≤ f(hi)).
 	let lo = 0;
 	let hi = target;
-	for (let it = 0; it < 50; it++) {
-		const mid = 0.5 * (lo + hi);
-		if ((1 + g) * branchX(br, mid) + mid > target) hi = mid;
-		else lo = mid;
+	let y = target * 0.5;
+	for (let it = 0; it < 60; it++) {
+		const x = branchX(br, y);
+		const fy = (1 + g) * x + y - target;
+		if (fy > 0) hi = y;
+		else lo = y;
+		const slope = (1 + g) * ((x > br.c * y && br.b > 1e-9 ? br.b / (y + br.isat) : 0) + br.c) + 1;
+		let next = y - fy / slope;
+		if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
+		if (Math.abs(next - y) <= 1e-13 * (target + 1e-300) || hi - lo <= 1e-13 * target) {
+			y = next;
+			break;
+		}
+		y = next;
 	}
-	const y = 0.5 * (lo + hi);
 	const x = Math.min(branchX(br, y), target / (1 + g));
 	return [sign * x, sign * (g * x + y)];
 }
@@ -653,6 +671,53 @@ export function estimateNoise(vn: number[], cn: number[]): number {
 	const a = one(vn);
 	const b = one(cn);
 	return Math.sqrt((a * a + b * b) / 2);
+}
+
+/**
+ * RMS of one phasor component over harmonics lo…hi of both axes: the noise a DFT bin picks up, when
+ * those harmonics hold nothing but noise.
+ */
+function harmonicNoise(
+	vn: number[],
+	cn: number[],
+	sin: Float64Array,
+	cos: Float64Array,
+	lo: number,
+	hi: number
+): number {
+	const n = vn.length;
+	let acc = 0;
+	let count = 0;
+	for (const x of [vn, cn]) {
+		for (let h = lo; h <= hi && h < n / 2; h++) {
+			let re = 0;
+			let im = 0;
+			for (let k = 0; k < n; k++) {
+				const idx = (h * k) % n;
+				re += x[k] * cos[idx];
+				im += x[k] * sin[idx];
+			}
+			acc += ((2 * re) / n) ** 2 + ((2 * im) / n) ** 2;
+			count += 2;
+		}
+	}
+	return count ? Math.sqrt(acc / count) : 0;
+}
+
+/** Noise per point from the mirror pairs θ ↔ π − θ (same source voltage): RMS difference / √2. */
+function mirrorNoise(vn: number[], cn: number[]): number {
+	const n = vn.length;
+	let acc = 0;
+	let count = 0;
+	for (let k = 1; k < n / 4; k++) {
+		for (const base of [0, n / 2]) {
+			const a = (base + k) % n;
+			const b = (base + n / 2 - k + n) % n;
+			acc += (vn[a] - vn[b]) ** 2 + (cn[a] - cn[b]) ** 2;
+			count += 2;
+		}
+	}
+	return count ? Math.sqrt(acc / (2 * count)) : 0;
 }
 
 /** RMS per axis of (measured − model) over the curve: sqrt(Σ(Δv² + Δi²) / 2N). */
