@@ -5,6 +5,10 @@ import { defineConfig } from 'vitest/config';
 export default defineConfig({
 	plugins: [tailwindcss(), sveltekit()],
 	server: { host: '127.0.0.1' },
+	build: {
+		// The bundler's plugin-timing report is informational and drowns the real messages.
+		rolldownOptions: { checks: { bundlerTimings: false } }
+	},
 	test: {
 		projects: [
 			{
