@@ -75,6 +75,8 @@ export interface CanonicalCurve {
 	periodSpread: number | null;
 	/** True when the curve came from the simulator rather than a bench. */
 	simulated: boolean;
+	/** Things found while canonicalising a capture that a technician should know (optional). */
+	warnings?: string[];
 }
 
 export type SignatureClass =
