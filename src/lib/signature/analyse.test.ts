@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { linearCurve, seededRandom, withNoise } from '../../../tests/support/analytic';
-import { analyse, fitEllipse } from './analyse';
+import { analyse, fitEllipse, KNEE_CURRENT_FRACTION } from './analyse';
+import { simulate } from './simulate';
 import type { Parameter, TestConditions } from './types';
 
 const at = (sourcePeakV: number, sourceResistanceOhm: number, frequencyHz: number): TestConditions => ({
@@ -116,6 +117,88 @@ describe('analyse: linear parts', () => {
 		}
 		// Under Gaussian noise 3 σ holds 99.7 % of the time; allow two of forty.
 		expect(outside).toBeLessThanOrEqual(2);
+	});
+});
+
+/** Thermal voltage kT/q at 300 K (k, q exact in the 2019 SI). */
+const VT = (1.380649e-23 * 300) / 1.602176634e-19;
+
+/**
+ * Shockley's diode equation with a series resistance, solved for the voltage at current I:
+ * V = n·Vt·ln(1 + I/Is) + I·rs.
+ */
+const shockleyV = (current: number, is: number, n: number, rs: number) =>
+	n * VT * Math.log(1 + current / is) + current * rs;
+
+describe('analyse: junctions and zeners', () => {
+	// Common practice, no source: a silicon junction starts to conduct around 0.5–0.7 V.
+	it('finds a silicon junction’s knee between 0.5 and 0.7 V, anode at probe 1', () => {
+		const a = analyse(simulate({ kind: 'diode' }, at(10, 1000, 60)));
+		expect(a.class).toBe('junction');
+		expect(value(a.parameters.kneeV)).toBeGreaterThan(0.5);
+		expect(value(a.parameters.kneeV)).toBeLessThan(0.7);
+		expect(a.parameters.polarity).toEqual({ value: 'anode-at-probe-1', unit: '' });
+	});
+
+	// Shockley equation at the stated current (KNEE_CURRENT_FRACTION of Vs/Rs).
+	it.each([
+		[{ is: 1e-14, n: 1, rs: 0 }, at(10, 1000, 60), false],
+		[{ is: 1e-9, n: 1.9, rs: 5 }, at(5, 470, 50), true],
+		[{ is: 2e-12, n: 1.4, rs: 50 }, at(20, 10e3, 1000), false],
+		[{ is: 1e-15, n: 1.1, rs: 1 }, at(2, 100, 400), true]
+	])('matches the Shockley equation at the knee current for %o at %o (reversed %s)', (d, c, reversed) => {
+		const a = analyse(simulate({ kind: 'diode', ...d, reversed }, c));
+		expect(a.class).toBe('junction');
+		const current = (KNEE_CURRENT_FRACTION * c.sourcePeakV) / c.sourceResistanceOhm;
+		expect(Math.abs(value(a.parameters.kneeV) - shockleyV(current, d.is, d.n, d.rs))).toBeLessThan(0.005);
+		expect(a.parameters.polarity).toEqual({
+			value: reversed ? 'cathode-at-probe-1' : 'anode-at-probe-1',
+			unit: ''
+		});
+	});
+
+	// Breakdown modelled as in SPICE: reverse current Ibv·exp((|V| − Bv)/(n·Vt)), so at current I the
+	// reverse voltage is Bv + n·Vt·ln(I/Ibv) + I·rs.
+	it.each([
+		[5.1, false, at(10, 1000, 60)],
+		[12, true, at(20, 2200, 50)],
+		[3.3, false, at(8, 330, 1000)]
+	])('finds a %d V zener’s breakdown and both knees (reversed %s)', (bv, reversed, c) => {
+		const a = analyse(simulate({ kind: 'diode', bv, ibv: 1e-3, reversed }, c));
+		expect(a.class).toBe('zener');
+		const current = (KNEE_CURRENT_FRACTION * c.sourcePeakV) / c.sourceResistanceOhm;
+		const expected = bv + VT * Math.log(current / 1e-3);
+		expect(value(a.parameters.breakdownV) / expected).toBeCloseTo(1, 2);
+		expect(Math.sign(value(a.parameters.reverseKneeV))).toBe(reversed ? 1 : -1);
+		expect(value(a.parameters.kneeV)).toBeCloseTo(shockleyV(current, 1e-14, 1, 0), 2);
+		expect(a.parameters.polarity).toEqual({
+			value: reversed ? 'cathode-at-probe-1' : 'anode-at-probe-1',
+			unit: ''
+		});
+	});
+
+	// Ohm's law on the reverse branch: a diode in parallel with R conducts V/R backwards.
+	it('reads a resistor across a junction as its leakage', () => {
+		const a = analyse(
+			simulate({ kind: 'parallel', parts: [{ kind: 'diode' }, { kind: 'resistor', ohms: 4700 }] }, at(10, 1000, 60))
+		);
+		expect(a.class).toBe('junction');
+		expect(value(a.parameters.leakageOhm) / 4700).toBeCloseTo(1, 2);
+	});
+
+	// Shockley: at 0.2 V a junction with Is = 1e-14 A carries ≈ 2e-11 A, nothing a tester can see.
+	it('reads a junction driven below its knee as an open', () => {
+		expect(analyse(simulate({ kind: 'diode' }, at(0.2, 1000, 60))).class).toBe('open');
+	});
+
+	// A junction with a capacitor across it traces a loop with a knee: neither a static part nor a
+	// linear one (textbook: the capacitor's current leads, the junction's is a function of voltage).
+	it('calls a junction with a capacitor across it complex, with a large residual', () => {
+		const c = at(10, 1000, 60);
+		const farads = 1 / (2 * Math.PI * 60 * 1000);
+		const a = analyse(simulate({ kind: 'parallel', parts: [{ kind: 'diode' }, { kind: 'capacitor', farads }] }, c));
+		expect(a.class).toBe('complex');
+		expect(a.residual).toBeGreaterThan(0.05);
 	});
 });
 

@@ -34,6 +34,16 @@ export const OPEN_SHORT_LEVEL = 0.005;
  */
 export const COMPLEX_RESIDUAL = 0.02;
 
+/**
+ * Thermal voltage kT/q at 300 K: k = 1.380649e-23 J/K and q = 1.602176634e-19 C (exact in the 2019
+ * SI).
+ */
+const THERMAL_VOLTAGE_V = (1.380649e-23 * 300) / 1.602176634e-19;
+/**
+ * Emission coefficients a junction curve may show: ≈ 1 for an ideal silicon junction, up to ≈ 2
+ * for recombination-dominated ones, more for LEDs and junctions in series (from memory, no source).
+ */
+const EMISSION_RANGE = [0.8, 4] as const;
 /** Harmonics kept when judging open and short (a knee needs a few to show its peak). */
 const LOW_PASS_HARMONICS = 12;
 /** Differences in residual under this fraction of full scale mean nothing to a technician. */
@@ -159,11 +169,11 @@ export function analyse(curve: CanonicalCurve): Analysis {
 		};
 	}
 
-	const candidates: Candidate[] = [];
-	candidates.push(
-		linearCandidate(vn, cn, sin, cos, v0, i0, v1, i1, sigmaPhasor, { rs, omega })
-	);
-	for (const polarity of [1, -1] as const) {
+	const linear = linearCandidate(vn, cn, sin, cos, v0, i0, v1, i1, sigmaPhasor, { rs, omega });
+	const candidates: Candidate[] = [linear];
+	// A linear fit already down at the noise leaves a junction model nothing to explain.
+	const linearExplainsAll = linear.residual <= Math.max(RESIDUAL_FLOOR, 1.15 * sigmaStatic);
+	for (const polarity of linearExplainsAll ? [] : ([1, -1] as const)) {
 		const j = junctionCandidate(vn, cn, sin, sigmaStatic, polarity, { vs, rs });
 		if (j) candidates.push(j);
 		const z = zenerCandidate(vn, cn, sin, sigmaStatic, polarity, { vs, rs });
@@ -351,7 +361,7 @@ function junctionCandidate(
 	const gFit = svv > 0 ? svi / svv : 0;
 	const g = Math.max(0, gFit);
 	const dg = svv > 0 ? sigma / Math.sqrt(svv) : Infinity;
-	const forward = fitBranch(vn, cn, sin, sigma, p, g);
+	const forward = fitBranch(vn, cn, sin, sigma, p, g, vs);
 	if (!forward) return undefined;
 	const residual = rmsResidual(vn, cn, (k) => modelPoint(sin[k], p, g, forward, undefined));
 
@@ -395,8 +405,8 @@ function zenerCandidate(
 	p: 1 | -1,
 	{ vs }: { vs: number; rs: number }
 ): Candidate | undefined {
-	const forward = fitBranch(vn, cn, sin, sigma, p, 0);
-	const reverse = fitBranch(vn, cn, sin, sigma, -p as 1 | -1, 0);
+	const forward = fitBranch(vn, cn, sin, sigma, p, 0, vs);
+	const reverse = fitBranch(vn, cn, sin, sigma, -p as 1 | -1, 0, vs);
 	if (!forward || !reverse) return undefined;
 	const kf = kneeOf(forward, vs);
 	const kr = kneeOf(reverse, vs);
@@ -432,8 +442,10 @@ function zenerCandidate(
 /**
  * Shockley fit of one half by linear least squares: on the points of the half where the source
  * drives polarity p and the branch current y = p·(i − G·v) is clearly above the noise,
- * x = p·v = a + b·ln y + c·y (nVt/Vs = b, series resistance/Rs = c). Negative b or c (noise on a
- * straight branch) drop that term and refit.
+ * x = p·v = a + b·ln y + c·y, where b = n·Vt/Vs (emission coefficient n, thermal voltage Vt) and
+ * c = (series resistance)/Rs. b is held to the physical range of n (EMISSION_RANGE): when the free
+ * fit leaves it, b is fixed at the nearer bound and a, c refitted; a negative c (noise on a steep
+ * branch) is dropped the same way.
  */
 function fitBranch(
 	vn: number[],
@@ -441,11 +453,12 @@ function fitBranch(
 	sin: Float64Array,
 	sigma: number,
 	p: 1 | -1,
-	g: number
+	g: number,
+	vs: number
 ): Branch | undefined {
 	const xs: number[] = [];
 	const ys: number[] = [];
-	const yMin = Math.max(0.02, 5 * sigma);
+	const yMin = Math.max(0.04, 5 * sigma);
 	let peak = 0;
 	for (let k = 0; k < vn.length; k++) {
 		if (p * sin[k] <= 0) continue;
@@ -459,30 +472,38 @@ function fitBranch(
 	}
 	if (xs.length < 6) return undefined;
 	const logs = ys.map(Math.log);
-	for (const terms of [
-		[true, true],
-		[true, false],
-		[false, true],
-		[false, false]
-	] as const) {
-		const cols: number[][] = [xs.map(() => 1)];
-		if (terms[0]) cols.push(logs);
-		if (terms[1]) cols.push(ys);
-		const fit = leastSquares(cols, xs);
-		if (!fit) continue;
-		let idx = 1;
-		const b = terms[0] ? fit.coef[idx++] : 0;
-		const c = terms[1] ? fit.coef[idx++] : 0;
-		if (b < 0 || c < 0) continue;
-		// Expand the covariance to the full (a, b, c) layout, zeros for dropped terms.
-		const map = [0, terms[0] ? 1 : -1, terms[0] ? (terms[1] ? 2 : -1) : terms[1] ? 1 : -1];
-		const cov = [0, 1, 2].map((r) =>
-			[0, 1, 2].map((s) => (map[r] < 0 || map[s] < 0 ? 0 : fit.cov[map[r]][map[s]]))
-		);
-		const lnIs = b > 1e-9 ? -fit.coef[0] / b : 0;
-		return { a: fit.coef[0], b, c, cov, peak, lnIs, isat: Math.exp(lnIs) };
+	const ones = xs.map(() => 1);
+	const bMin = (EMISSION_RANGE[0] * THERMAL_VOLTAGE_V) / vs;
+	const bMax = (EMISSION_RANGE[1] * THERMAL_VOLTAGE_V) / vs;
+
+	const make = (a: number, b: number, c: number, cov: number[][]): Branch => {
+		const lnIs = b > 1e-12 ? -a / b : 0;
+		return { a, b, c, cov, peak, lnIs, isat: Math.exp(lnIs) };
+	};
+	const free = leastSquares([ones, logs, ys], xs);
+	if (free) {
+		const [a, b, c] = free.coef;
+		if (b >= bMin && b <= bMax && c >= 0) return make(a, b, c, free.cov);
 	}
-	return undefined;
+	// b at its bound: x − b·ln y = a + c·y.
+	const b = free ? Math.min(bMax, Math.max(bMin, free.coef[1])) : bMin;
+	const target = xs.map((x, k) => x - b * logs[k]);
+	const withC = leastSquares([ones, ys], target);
+	if (withC && withC.coef[1] >= 0) {
+		const cov = [
+			[withC.cov[0][0], 0, withC.cov[0][1]],
+			[0, 0, 0],
+			[withC.cov[1][0], 0, withC.cov[1][1]]
+		];
+		return make(withC.coef[0], b, withC.coef[1], cov);
+	}
+	const only = leastSquares([ones], target);
+	if (!only) return undefined;
+	return make(only.coef[0], b, 0, [
+		[only.cov[0][0], 0, 0],
+		[0, 0, 0],
+		[0, 0, 0]
+	]);
 }
 
 /** Branch voltage x at branch current y ≥ 0; 0 at y = 0 (Shockley's "−1" term), never negative. */
