@@ -33,6 +33,8 @@ const configSchema = z.object({
 	),
 	SMTP_URL: optionalUrl(['smtp:', 'smtps:'], 'SMTP_URL'),
 	SMTP_FROM: z.preprocess(emptyToUndefined, z.string().optional()),
+	// Set only by the local SMTP stand-in (npm start / npm test): where its captured mail is read.
+	DEV_MAILBOX_URL: optionalUrl(['http:'], 'DEV_MAILBOX_URL'),
 	MEILISEARCH_URL: optionalUrl(['http:', 'https:'], 'MEILISEARCH_URL'),
 	MEILISEARCH_KEY: z.preprocess(emptyToUndefined, z.string().optional()),
 	DATABASE_POOL_MAX: z.preprocess(

@@ -1,4 +1,5 @@
 import type { Kysely } from 'kysely';
+import { ensureUser } from '../auth/users';
 import type { Database } from '../db/connect';
 
 /**
@@ -9,6 +10,17 @@ export const DEMO_ORGANISATION = {
 	slug: 'fernhollow',
 	name: 'Fernhollow Drive & Supply Repairs (demo)'
 } as const;
+
+/**
+ * Invented demo people of the demo organisation, one per role worth trying. `.example` is a
+ * reserved top-level domain, so these addresses can never reach a real inbox; locally their
+ * sign-in mail lands in the developer mailbox.
+ */
+export const DEMO_USERS = [
+	{ email: 'ilse.admin@fernhollow.example', name: 'Ilse Marrow (demo)', role: 'admin' },
+	{ email: 'teodor.author@fernhollow.example', name: 'Teodor Quill (demo)', role: 'author' },
+	{ email: 'pim.contributor@fernhollow.example', name: 'Pim Ashgrove (demo)', role: 'contributor' }
+] as const;
 
 /**
  * Seeds the demo organisation when the database holds no organisation at all, so running it
@@ -23,7 +35,13 @@ export async function seedDemo(db: Kysely<Database>): Promise<boolean> {
 			.select((eb) => eb.fn.countAll<number>().as('n'))
 			.executeTakeFirstOrThrow();
 		if (Number(existing.n) > 0) return false;
-		await trx.insertInto('organisation').values(DEMO_ORGANISATION).execute();
+		const organisation = await trx.insertInto('organisation').values(DEMO_ORGANISATION).returning('id').executeTakeFirstOrThrow();
+		const users = [];
+		for (const demo of DEMO_USERS) {
+			const user = await ensureUser(trx, { email: demo.email, name: demo.name });
+			users.push({ ...demo, id: user.id });
+		}
+		// Memberships of `users` in `organisation` (each with its `role`) are added here.
 		await trx
 			.insertInto('appMeta')
 			.values({ key: 'demo_seeded_at', value: JSON.stringify(new Date().toISOString()) })
