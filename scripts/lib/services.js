@@ -15,7 +15,20 @@ import { join } from 'node:path';
 /** @typedef {{ name: string, enabled: (env: NodeJS.ProcessEnv) => boolean, script: string, ports: string[], env: (ports: Record<string, number>) => Record<string, string>, health: (ports: Record<string, number>) => string }} ServiceDef */
 
 /** @type {ServiceDef[]} */
-export const LOCAL_SERVICES = [];
+export const LOCAL_SERVICES = [
+	{
+		// A real SMTP server on loopback that keeps what it receives; the app shows it at /dev/mailbox.
+		name: 'mail',
+		enabled: (env) => !env.SMTP_URL,
+		script: 'scripts/mail-standin.ts',
+		ports: ['SMTP', 'HTTP'],
+		env: (ports) => ({
+			SMTP_URL: `smtp://127.0.0.1:${ports.SMTP}`,
+			DEV_MAILBOX_URL: `http://127.0.0.1:${ports.HTTP}`
+		}),
+		health: (ports) => `http://127.0.0.1:${ports.HTTP}/health`
+	}
+];
 
 /**
  * Starts every enabled stand-in. Resolves to { env, children, stop } where env holds the
