@@ -183,7 +183,7 @@ describe('engine accuracy on synthesised bench captures', () => {
 		['inductanceH', 'inductance within 5 %'],
 		['kneeV', 'knee within 50 mV'],
 		['breakdownV', 'breakdown within 3 %']
-	] as const)('measures %s: %s in ≥ 95 % of captures', (param) => {
+	] as const)('measures %s: %s in ≥ 95 % of captures', (param, description) => {
 		const relevant = results.filter((r) => r.trial.truth?.param === param);
 		expect(relevant.length).toBeGreaterThan(10);
 		let good = 0;
@@ -195,7 +195,7 @@ describe('engine accuracy on synthesised bench captures', () => {
 			if (error <= truth.tolerance) good++;
 		}
 		const rate = good / relevant.length;
-		console.info(`${param} within tolerance ${(rate * 100).toFixed(1)} % of ${relevant.length}`);
+		console.info(`${description}: ${(rate * 100).toFixed(1)} % of ${relevant.length}`);
 		expect(rate).toBeGreaterThanOrEqual(0.95);
 	});
 });
