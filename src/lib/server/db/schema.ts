@@ -101,6 +101,18 @@ export interface Organisation {
   slug: string;
 }
 
+export interface SearchOutbox {
+  attempts: Generated<number>;
+  doneAt: Timestamp | null;
+  enqueuedAt: Generated<Timestamp>;
+  entityId: string;
+  id: Generated<Int8>;
+  lastError: string | null;
+  nextAttemptAt: Generated<Timestamp>;
+  op: string;
+  orgId: string;
+}
+
 export interface Session {
   expires: Timestamp;
   id: Generated<string>;
@@ -138,6 +150,7 @@ export interface DB {
   invitation: Invitation;
   membership: Membership;
   organisation: Organisation;
+  searchOutbox: SearchOutbox;
   Session: Session;
   signInRequest: SignInRequest;
   User: User;
