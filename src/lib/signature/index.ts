@@ -28,6 +28,7 @@ export {
 	similarityOf,
 	DESCRIPTOR_LENGTH
 } from './compare';
+export { simulate, parseModel, deviceModel, type SimulationStats } from './simulate';
 
 export interface CaptureAnalysis {
 	capture: ParsedCapture;
