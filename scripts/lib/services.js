@@ -9,7 +9,8 @@
 //   ports:    names of the ports it needs; each gets a free port, passed as STANDIN_PORT_<NAME>
 //   env:      (ports) => the variables the app (and tests) need to use it
 //   health:   (ports) => a URL that answers once it is ready
-import { BIN, freePort, startChild, waitForHttp } from './run.js';
+import { BIN, ROOT, freePort, startChild, waitForHttp } from './run.js';
+import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 
 /** @typedef {{ name: string, enabled: (env: NodeJS.ProcessEnv) => boolean, script: string, ports: string[], env: (ports: Record<string, number>) => Record<string, string>, health: (ports: Record<string, number>) => string }} ServiceDef */
@@ -25,6 +26,20 @@ export const LOCAL_SERVICES = [
 		env: (ports) => ({
 			SMTP_URL: `smtp://127.0.0.1:${ports.SMTP}`,
 			DEV_MAILBOX_URL: `http://127.0.0.1:${ports.HTTP}`
+		}),
+		health: (ports) => `http://127.0.0.1:${ports.HTTP}/health`
+	},
+	{
+		// The search engine's REST subset, in memory (search/standin). It forgets on exit; the app
+		// rebuilds the index from the database. Its key is generated per start and left in a file
+		// named after its port (search/standin/main.ts), unless MEILISEARCH_KEY is set.
+		name: 'search',
+		enabled: (env) => !env.MEILISEARCH_URL,
+		script: 'search/standin/main.ts',
+		ports: ['HTTP'],
+		env: (ports) => ({
+			MEILISEARCH_URL: `http://127.0.0.1:${ports.HTTP}`,
+			MEILISEARCH_KEY: readFileSync(join(ROOT, '.data', `search-standin-${ports.HTTP}.key`), 'utf8').trim()
 		}),
 		health: (ports) => `http://127.0.0.1:${ports.HTTP}/health`
 	}

@@ -12,6 +12,7 @@ import { startStandin, type Standin } from '../../search/standin/server';
 import type { Database } from '../../src/lib/server/db/connect';
 import { createSearchEngine, deleteAllDocuments, ensureIndex, indexDocuments, reindex, type SearchEngine } from '../../src/lib/server/search/engine';
 import { backoffDelayMs, drainOutbox, enqueueSearchUpdate, indexLag, type LoadDocuments } from '../../src/lib/server/search/outbox';
+import { startSearchSync } from '../../src/lib/server/search/sync';
 import { ORG_A, ORG_B, entryDoc } from './search-fixtures';
 import { openTestDb, truncateAll } from './setup-db';
 
@@ -230,6 +231,39 @@ describe('reindex', () => {
 		expect(result).toEqual({ indexed: 4, removed: 1 });
 		expect(progress).toBe(4);
 		expect(await indexed(engine)).toEqual(incremental);
+	});
+});
+
+describe('startSearchSync', () => {
+	it('rebuilds a new index from the database, drains, and rebuilds again after the engine lost everything', async () => {
+		await writeEntry(entryDoc('s1', { title: 'Written before the app started' }));
+		await drainOutbox(db, engine, { loadDocuments });
+		const port = standin.port;
+		// The engine restarts empty before the app starts.
+		await standin.close();
+		standin = await startStandin({ port, masterKey: 'outbox-test-key' });
+		const errors: string[] = [];
+		const sync = startSearchSync(db, engine, { loadDocuments, allDocuments: () => sourceBatches(), intervalMs: 3_600_000, onError: (m) => errors.push(m) });
+		try {
+			expect((await sync.runOnce()).rebuilt).toBe(true);
+			expect((await indexed(engine)).map((d) => d.id)).toEqual(['s1']);
+
+			await writeEntry(entryDoc('s2', { title: 'Written while running' }));
+			expect(await sync.runOnce()).toMatchObject({ rebuilt: false, drained: { applied: 1 } });
+
+			// Killed and back while the app runs: the next tick notices and rebuilds.
+			await standin.close();
+			await writeEntry(entryDoc('s3', { title: 'Written while search was down' }));
+			expect((await sync.runOnce()).drained.error).toMatch(/not reachable/);
+			standin = await startStandin({ port, masterKey: 'outbox-test-key' });
+			await sync.runOnce();
+			await sync.runOnce();
+			expect(await indexed(engine)).toEqual(await sourceDocs());
+			expect((await indexed(engine)).map((d) => d.id)).toEqual(['s1', 's2', 's3']);
+			expect(errors).toHaveLength(1);
+		} finally {
+			await sync.stop();
+		}
 	});
 });
 

@@ -8,6 +8,7 @@ import { createSearchEngine, type SearchEngine } from './engine';
 
 export * from './engine';
 export * from './outbox';
+export * from './sync';
 
 let engine: SearchEngine | undefined;
 
