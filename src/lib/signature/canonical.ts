@@ -12,7 +12,7 @@
  *    search runs on block means of e (≤ 1024 blocks; averaging over a block is symmetric, so it does
  *    not shift the phase):
  *    - without a time column the samples are taken as evenly spaced and the period comes from the
- *      data's own periodicity: a scan of 0.8…128 cycles per record in steps of 0.1 cycle (a
+ *      data's own periodicity: a scan of 0.8…64 cycles per record in steps of 0.2 cycle (a
  *      periodogram made of least-squares fits, which unlike a plain DFT stays unbiased at 1.3
  *      periods), refined by a parabola through the best three, then by golden-section search;
  *    - with a time column the search starts at the entered f (so a source a little off its nominal
@@ -290,8 +290,13 @@ function findPhase(
 	// Cycles per record in block units: block b sits at (about) sample (b + ½)·n/D.
 	const perBlock = bl.n > 1 ? (bl.x[bl.n - 1] - bl.x[0]) / (bl.n - 1) : 1;
 	const recordSpan = bl.n * perBlock;
-	const cMax = Math.max(2, Math.min(bl.n / 8, 128));
-	const scan = scanCycles(bl, 0.8, cMax, 0.1);
+	const cMax = Math.max(2, Math.min(bl.n / 8, 64));
+	let scan = scanCycles(bl, 0.8, cMax, 0.2);
+	if (scan.explained < 0.8 && bl.n / 8 > 64) {
+		// Many short periods: look further up.
+		const more = scanCycles(bl, 63, Math.min(bl.n / 8, 256), 0.2);
+		if (more.explained > scan.explained) scan = more;
+	}
 	const toOmega = (cycles: number) => (TWO_PI * cycles) / recordSpan;
 	const fromScan = (sig: { cycles: number }) =>
 		refineOmega(bl, x0, toOmega(sig.cycles - 0.25), toOmega(sig.cycles + 0.25), sst);
@@ -299,7 +304,7 @@ function findPhase(
 	if (1 - fit.sse / sst < 0.5) {
 		// e is not sine-like: a wrong Rs. Take the period from whichever channel repeats most clearly.
 		for (const ch of [samples.v, samples.i]) {
-			const alt = scanCycles(blockMeans(x, ch), 0.8, cMax, 0.1);
+			const alt = scanCycles(blockMeans(x, ch), 0.8, cMax, 0.2);
 			if (alt.explained > scan.explained) {
 				const f2 = fromScan(alt);
 				if (f2.sse < fit.sse || alt.explained > 0.8) fit = f2;
@@ -522,11 +527,26 @@ function checkSource(
 	let sumR2 = 0;
 	let sumD2 = 0;
 	let prev = 0;
+	// Sines by rotation between exact values every 256 samples when the spacing is even.
+	const step = n > 1 ? (xAt(n - 1) - xAt(0)) / (n - 1) : 0;
+	const even = uniformSpacing(xAt, n, step);
+	const cw = Math.cos(omega * step);
+	const sw = Math.sin(omega * step);
+	let sn = 0;
+	let cs = 1;
 	for (let k = 0; k < n; k++) {
-		const r = e[k] - (amp * Math.sin(omega * (xAt(k) - x0) + phase) + offset);
+		if (!even || (k & 255) === 0) {
+			const th = omega * (xAt(k) - x0) + phase;
+			sn = Math.sin(th);
+			cs = Math.cos(th);
+		}
+		const r = e[k] - (amp * sn + offset);
 		sumR2 += r * r;
 		if (k > 0) sumD2 += (r - prev) * (r - prev);
 		prev = r;
+		const s2 = sn * cw + cs * sw;
+		cs = cs * cw - sn * sw;
+		sn = s2;
 	}
 	const residualVar = sumR2 / n;
 	const noiseVar = sumD2 / (2 * (n - 1));
@@ -546,6 +566,14 @@ function checkSource(
 			`The capture has a DC offset of ${Number(offset.toPrecision(3))} V in V + I·Rs: check the scope's offset and coupling.`
 		);
 	}
+}
+
+function uniformSpacing(xAt: (k: number) => number, n: number, step: number): boolean {
+	if (step <= 0) return false;
+	for (let k = 1; k < n; k += Math.max(1, n >> 6)) {
+		if (Math.abs(xAt(k) - xAt(k - 1) - step) > 1e-6 * step) return false;
+	}
+	return true;
 }
 
 /** Warns when a channel sits at its extreme value for ≥ 5 % of the samples. */
