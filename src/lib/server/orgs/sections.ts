@@ -1,0 +1,19 @@
+import { type Action, can, type Role } from '../auth/permissions';
+
+export interface OrgSection {
+	href: string;
+	label: string;
+}
+
+/** The organisation's pages in navigation order, each with the action that opens it. */
+const SECTIONS: { path: string; label: string; action: Action }[] = [
+	{ path: '', label: 'Overview', action: 'org:read' },
+	{ path: '/members', label: 'Members', action: 'member:read' },
+	{ path: '/invitations', label: 'Invitations', action: 'invitation:manage' },
+	{ path: '/audit', label: 'Audit log', action: 'audit:read' }
+];
+
+/** The sections of `/o/<slug>` a member with `role` may open; the navigation shows only these. */
+export function orgSections(slug: string, role: Role): OrgSection[] {
+	return SECTIONS.filter((s) => can(role, s.action)).map((s) => ({ href: `/o/${slug}${s.path}`, label: s.label }));
+}
