@@ -1,0 +1,39 @@
+import { json } from '@sveltejs/kit';
+import { requireMember, requireUser } from '$lib/server/auth/guard';
+import { apiError, readJson, toApiIssues } from '$lib/server/api/errors';
+import { db } from '$lib/server/db';
+import { invitationMail, sendInvitationMail } from '$lib/server/orgs/invitation-mail';
+import { createInvitation, listPendingInvitations } from '$lib/server/orgs/invitations';
+import { invitationCreate } from '$lib/schemas/orgs';
+import type { RequestHandler } from './$types';
+
+/** Pending invitations (admin). */
+export const GET: RequestHandler = async ({ params }) => {
+	const member = await requireMember(params.org, 'invitation:manage');
+	const pending = await listPendingInvitations(db, member.orgId);
+	return json({
+		invitations: pending.map((i) => ({ id: i.id, email: i.email, role: i.role, expiresAt: i.expiresAt.toISOString(), expired: i.expired }))
+	});
+};
+
+/** Invites `{ email, role }` (admin). 201 with the invitation; the link goes only by e-mail. */
+export const POST: RequestHandler = async ({ params, request, url }) => {
+	const member = await requireMember(params.org, 'invitation:manage');
+	const user = await requireUser();
+	const body = await readJson(request);
+	if (body === undefined) return apiError(400, 'invalid_input', 'Send a JSON body of at most 64 KiB.');
+	const parsed = invitationCreate.safeParse(body);
+	if (!parsed.success) return apiError(400, 'invalid_input', 'The invitation is not valid.', toApiIssues(parsed.error.issues));
+	const result = await db.transaction().execute((trx) =>
+		createInvitation(trx, { orgId: member.orgId, email: parsed.data.email, role: parsed.data.role, invitedBy: member.userId })
+	);
+	if (!result.ok) return apiError(409, 'conflict', result.message, [{ path: 'email', message: result.message }]);
+	const mailed = await sendInvitationMail(
+		parsed.data.email,
+		invitationMail({ url: `${url.origin}/invite/${result.token}`, orgName: member.orgName, role: parsed.data.role, inviter: user.name ?? user.email, expiresAt: result.expiresAt })
+	);
+	return json(
+		{ invitation: { id: result.id, email: parsed.data.email, role: parsed.data.role, expiresAt: result.expiresAt.toISOString() }, mailed },
+		{ status: 201 }
+	);
+};

@@ -1,0 +1,107 @@
+import type { Action } from '../../src/lib/server/auth/permissions';
+
+/**
+ * Every organisation-scoped route and form action, in one table: the cross-tenant test and the
+ * role × action test iterate it, and a check fails when a route file under `/o/[org=slug]/` or
+ * `/api/v1/orgs/[org=slug]/` (or a form action in one) is missing here.
+ *
+ * `action` is the permission the route needs; `request` builds a valid request for organisation
+ * `slug` (the fixture passes ids it created), so an allowed caller gets past the guard.
+ */
+export interface OrgRoute {
+	/** The route folder under src/routes, e.g. `o/[org=slug]/members`. */
+	route: string;
+	kind: 'page' | 'action' | 'endpoint';
+	/** For form actions, the action name as exported by +page.server.ts. */
+	name?: string;
+	method: 'GET' | 'POST';
+	action: Action;
+	/** Writes something when allowed: the matrix gives each allowed call fresh data. */
+	writes?: boolean;
+	request: (slug: string, fx: RouteFixture) => { path: string; body?: Record<string, string> | { json: unknown } };
+}
+
+/** Ids a request may refer to, made fresh by the test before each call that writes. */
+export interface RouteFixture {
+	/** A member of the organisation who may be changed or removed. */
+	victimUserId: string;
+	/** An open invitation of the organisation. */
+	invitationId: string;
+	/** A new address to invite. */
+	freshEmail: string;
+}
+
+export const ORG_ROUTES: OrgRoute[] = [
+	{ route: 'o/[org=slug]', kind: 'page', method: 'GET', action: 'org:read', request: (s) => ({ path: `/o/${s}` }) },
+	{ route: 'o/[org=slug]/members', kind: 'page', method: 'GET', action: 'member:read', request: (s) => ({ path: `/o/${s}/members` }) },
+	{
+		route: 'o/[org=slug]/members',
+		kind: 'action',
+		name: 'changeRole',
+		method: 'POST',
+		action: 'member:manage',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/members?/changeRole`, body: { userId: fx.victimUserId, role: 'author' } })
+	},
+	{
+		route: 'o/[org=slug]/members',
+		kind: 'action',
+		name: 'remove',
+		method: 'POST',
+		action: 'member:manage',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/members?/remove`, body: { userId: fx.victimUserId } })
+	},
+	{ route: 'o/[org=slug]/invitations', kind: 'page', method: 'GET', action: 'invitation:manage', request: (s) => ({ path: `/o/${s}/invitations` }) },
+	{
+		route: 'o/[org=slug]/invitations',
+		kind: 'action',
+		name: 'invite',
+		method: 'POST',
+		action: 'invitation:manage',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/invitations?/invite`, body: { email: fx.freshEmail, role: 'viewer' } })
+	},
+	{
+		route: 'o/[org=slug]/invitations',
+		kind: 'action',
+		name: 'resend',
+		method: 'POST',
+		action: 'invitation:manage',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/invitations?/resend`, body: { id: fx.invitationId } })
+	},
+	{
+		route: 'o/[org=slug]/invitations',
+		kind: 'action',
+		name: 'revoke',
+		method: 'POST',
+		action: 'invitation:manage',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/invitations?/revoke`, body: { id: fx.invitationId } })
+	},
+	{ route: 'o/[org=slug]/audit', kind: 'page', method: 'GET', action: 'audit:read', request: (s) => ({ path: `/o/${s}/audit` }) },
+	{ route: 'api/v1/orgs/[org=slug]', kind: 'endpoint', method: 'GET', action: 'org:read', request: (s) => ({ path: `/api/v1/orgs/${s}` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/members',
+		kind: 'endpoint',
+		method: 'GET',
+		action: 'member:read',
+		request: (s) => ({ path: `/api/v1/orgs/${s}/members` })
+	},
+	{
+		route: 'api/v1/orgs/[org=slug]/invitations',
+		kind: 'endpoint',
+		method: 'GET',
+		action: 'invitation:manage',
+		request: (s) => ({ path: `/api/v1/orgs/${s}/invitations` })
+	},
+	{
+		route: 'api/v1/orgs/[org=slug]/invitations',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'invitation:manage',
+		writes: true,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/invitations`, body: { json: { email: fx.freshEmail, role: 'viewer' } } })
+	}
+];
