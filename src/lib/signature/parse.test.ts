@@ -164,6 +164,17 @@ describe('parseCapture: two-column V-I files', () => {
 		expect(p.warnings.join(' ')).toContain('line 22');
 	});
 
+	it('reads quoted numbers, V(V)/I(A) headers and a footer line', () => {
+		const quoted = ['"V","I"', ...lines((k) => `"${V[k]}","${I[k]}"`)].join('\n');
+		expectClose(parseCapture(quoted).samples.i, I);
+		const compact = ['V(V),I(A)', ...lines((k) => `${V[k]},${I[k]}`), 'End of data'].join('\n');
+		const p = parseCapture(compact);
+		expectClose(p.samples.v, V);
+		expect(p.warnings).toHaveLength(1);
+		const long = ['v_volts,i_amps', ...lines((k) => `${V[k]},${I[k]}`)].join('\n');
+		expectClose(parseCapture(long).samples.i, I);
+	});
+
 	it('applies the axis inversions', () => {
 		const text = ['V,I', ...lines((k) => `${V[k]},${I[k]}`)].join('\n');
 		const p = parseCapture(text, { invertVoltage: true, invertCurrent: true });
@@ -229,6 +240,24 @@ describe('parseCapture: oscilloscope exports', () => {
 		expectClose(p.samples.i, I);
 	});
 
+	it('reads unnamed X/Y columns as channels when a sense resistance is entered', () => {
+		const text = ['X,Y', ...lines((k) => `${V[k]},${I[k] * R}`)].join('\n');
+		const p = parseCapture(text, { senseOhm: R });
+		expect(p.format).toBe('scope-csv');
+		expectClose(p.samples.i, I);
+	});
+
+	it('reads a units row under the header and a sample rate in the preamble', () => {
+		const text = ['Sampling rate: 100 kSa/s', 'Sense Resistor (ohm),10', '', 'Time,CH1,CH2', '(s),(V),(V)', ...scopeRows(',')].join('\n');
+		const p = parseCapture(text);
+		expect(p.format).toBe('scope-csv');
+		expectClose(p.samples.i, I);
+		expectClose(p.samples.t!, V.map((_, k) => k * 1e-5));
+		const noTime = ['Sampling rate: 100 kSa/s', 'Sense Resistor (ohm),10', '', 'CH1,CH2', ...lines((k) => `${V[k]},${I[k] * R}`)].join('\n');
+		// 100 kSa/s is one sample every 10 µs (SI prefixes).
+		expectClose(parseCapture(noTime).samples.t!, V.map((_, k) => k * 1e-5));
+	});
+
 	it('refuses a scope export without the sense resistance', () => {
 		const text = ['Record length,64', 'Time (s),CH1 (V),CH2 (V)', ...scopeRows(',')].join('\n');
 		expectError(() => parseCapture(text), 'missing_sense_resistance');
@@ -255,6 +284,11 @@ describe('parseCapture: JSON (RFC 8259)', () => {
 		expect(p.format).toBe('json');
 		expectClose(p.samples.i, I);
 		expectError(() => parseCapture(JSON.stringify({ t, ch1: V, ch2: I })), 'missing_sense_resistance');
+	});
+
+	it('reads arrays nested under "samples"', () => {
+		const p = parseCapture(JSON.stringify({ conditions: { vs: 10 }, samples: { v: V, i: I } }));
+		expectClose(p.samples.v, V);
 	});
 
 	it('reads rows of [v, i] and a units object', () => {

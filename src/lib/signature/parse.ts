@@ -331,7 +331,7 @@ function detectDelimiter(text: string): Delim {
 		const dc = d !== ',';
 		let score = 0;
 		for (const line of sample) {
-			const fields = stripTrailingEmpty(splitLine(line, d));
+			const fields = stripTrailingEmpty(splitLine(line.replace(/"/g, ''), d));
 			if (fields.length >= 2 && fields.every((f) => isNumberField(f, dc))) score++;
 		}
 		if (score > bestScore) {
@@ -780,7 +780,7 @@ function parseDelimited(text: string, options: ParseOptions): ParsedCapture {
 	}
 	if (skipped > 0) {
 		warnings.push(
-			`Skipped ${skipped} row${skipped === 1 ? '' : 's'} that were not numbers (first on line ${firstSkipped}).`
+			`Skipped ${skipped === 1 ? 'a row that was' : `${skipped} rows that were`} not numbers (first on line ${firstSkipped}).`
 		);
 	}
 
@@ -882,6 +882,9 @@ function chooseLayout(
 	else if (columns && rest.filter((k) => roles[k] === 'voltage').length >= 2) format = 'scope-csv';
 	else if (!columns && ncols - (index === null ? 0 : 1) === 2 && hints.senseInFile) format = 'scope-csv';
 	else if (!columns && time !== null && (hints.preamble || hints.senseInFile || options.senseOhm !== undefined))
+		format = 'scope-csv';
+	else if (options.senseOhm !== undefined && !rest.some((k) => roles[k] === 'current'))
+		// A sense resistance entered for a file that names no current column: two voltage channels.
 		format = 'scope-csv';
 	else format = 'vi-csv';
 
@@ -1061,7 +1064,14 @@ function parseJson(text: string, options: ParseOptions): ParsedCapture {
 	if (!root || typeof root !== 'object') {
 		throw new SignatureError('bad_json', 'The JSON must be an object with "v" and "i" arrays.');
 	}
-	const obj = root as Record<string, unknown>;
+	let obj = root as Record<string, unknown>;
+	// {"samples": {…}} or {"data": {…}}: the arrays one level down, the rest (e.g. senseOhm) kept.
+	const nest = findKey(obj, ['samples', 'data', 'capture']);
+	if (nest !== undefined && obj[nest] && typeof obj[nest] === 'object' && !Array.isArray(obj[nest])) {
+		obj = { ...obj, ...(obj[nest] as Record<string, unknown>) };
+	} else if (nest !== undefined && Array.isArray(obj[nest]) && findKey(obj, ['v', 'voltage']) === undefined) {
+		return parseJson(JSON.stringify(obj[nest]), options);
+	}
 	const units = (obj.units && typeof obj.units === 'object' ? obj.units : {}) as Record<string, unknown>;
 	const vk = findKey(obj, ['v', 'voltage', 'u']);
 	const ik = findKey(obj, ['i', 'current']);
