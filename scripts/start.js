@@ -113,7 +113,14 @@ try {
 
 	console.log(`
   Curvelore is running at ${origin}
-${(services.env.DEV_MAILBOX_URL ? `  Sign in with a demo address (see README); read the sign-in mail at ${origin}/dev/mailbox\n` : '')}  Press Ctrl-C to stop.
+${(services.env.DEV_MAILBOX_URL
+	? // The addresses of DEMO_USERS in src/lib/server/demo/seed.ts.
+		`  Sign in at ${origin}/login with a demo address:
+    ilse.admin@fernhollow.example        (admin)
+    teodor.author@fernhollow.example     (author)
+    pim.contributor@fernhollow.example   (contributor)
+  Mail goes to the local stand-in; open the sign-in link from ${origin}/dev/mailbox\n`
+	: '')}  Press Ctrl-C to stop.
 `);
 } catch (e) {
 	console.error(`✗ ${e instanceof Error ? e.message : e}`);

@@ -1,4 +1,21 @@
-import type { HandleServerError } from '@sveltejs/kit';
+import type { Handle, HandleServerError } from '@sveltejs/kit';
+import { sequence } from '@sveltejs/kit/hooks';
+import { authHandle } from './auth';
+import { apiTokenHandle } from '$lib/server/auth/member';
+
+/**
+ * Sign-in links are requested only through the /login form, which validates the address and applies
+ * the rate limit before Auth.js mails anything; a direct POST to Auth.js's endpoint would skip both.
+ */
+const onlyOurSignInForm: Handle = ({ event, resolve }) => {
+	if (event.request.method === 'POST' && event.url.pathname.startsWith('/auth/signin')) {
+		return new Response(null, { status: 303, headers: { location: '/login' } });
+	}
+	return resolve(event);
+};
+
+// apiTokenHandle: `Authorization: Bearer …` on /api/ routes sets the principal before any guard runs.
+export const handle: Handle = sequence(onlyOurSignInForm, authHandle, apiTokenHandle);
 
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	const errorId = crypto.randomUUID();
