@@ -41,7 +41,11 @@ export async function seedDemo(db: Kysely<Database>): Promise<boolean> {
 			const user = await ensureUser(trx, { email: demo.email, name: demo.name });
 			users.push({ ...demo, id: user.id });
 		}
-		// Memberships of `users` in `organisation` (each with its `role`) are added here.
+		await trx
+			.insertInto('membership')
+			.values(users.map((u) => ({ orgId: organisation.id, userId: u.id, role: u.role })))
+			.onConflict((oc) => oc.columns(['orgId', 'userId']).doNothing())
+			.execute();
 		await trx
 			.insertInto('appMeta')
 			.values({ key: 'demo_seeded_at', value: JSON.stringify(new Date().toISOString()) })
