@@ -1,9 +1,13 @@
 import { currentPrincipal } from '$lib/server/auth/guard';
+import { db } from '$lib/server/db';
+import { listOrgsOfUser } from '$lib/server/orgs/queries';
 import type { LayoutServerLoad } from './$types';
 
 export const load: LayoutServerLoad = async (event) => {
 	const principal = await currentPrincipal(event);
 	// Only what the top bar shows; never tokens or session data.
 	const user = principal ? { id: principal.user.id, name: principal.user.name, email: principal.user.email } : null;
-	return { user };
+	// The organisation switcher lists the user's organisations (names and slugs only).
+	const orgs = principal ? (await listOrgsOfUser(db, principal.user.id)).map((o) => ({ slug: o.slug, name: o.name })) : [];
+	return { user, orgs };
 };
