@@ -74,6 +74,8 @@ export const PERIOD_AGREEMENT = 1e-6;
 const MAX_PERIODS = 120;
 /** Newton iterations per time step at most. */
 const MAX_STEP_ITERATIONS = 200;
+/** Newton iterations of a step after which a solution satisfying KCL is accepted (see kclHolds). */
+const KCL_FALLBACK_AFTER = 20;
 /** Largest exponent evaluated; beyond it the exponential continues linearly (avoids overflow). */
 const MAX_EXPONENT = 80;
 
@@ -683,12 +685,18 @@ class Integrator {
 	private readonly jac: Float64Array;
 	private readonly piv: Int32Array;
 	private readonly rhs: Float64Array;
+	/** The step's right-hand side before the junctions' companion currents, for kclHolds. */
+	private readonly rhsLin: Float64Array;
+	private readonly residual: Float64Array;
+	private readonly magnitude: Float64Array;
 	private readonly y: Float64Array;
 	private readonly yNew: Float64Array;
 	/** Junction voltages the next linearisation uses (carried across steps and periods). */
 	private readonly vj: Float64Array;
 	private readonly linear: boolean;
 	private linearFactored = false;
+	/** A linear network's monodromy matrix does not depend on the state: computed once. */
+	private monodromyCache: Float64Array | null = null;
 	private readonly col: Float64Array;
 	/** Per-step transition matrix of the state, 2m × 2m. */
 	private readonly stepMatrix: Float64Array;
@@ -697,17 +705,22 @@ class Integrator {
 	/** Source voltage at step s of the period. */
 	private readonly source: Float64Array;
 	readonly stats: SimulationStats = { periods: 0, steps: 0, newtonIterations: 0 };
-	private stepMatrixReady = false;
 	/** Current tolerance of the junction equations, A. */
 	private readonly tolI: number;
+	/** KCL tolerance of kclHolds, A: 10⁻⁷ of full-scale current. */
+	private readonly kclTolerance: number;
 
 	constructor(c: Circuit, steps: number, vs: number, isc: number) {
 		this.c = c;
 		this.tolI = 1e-9 * isc + 1e-15;
+		this.kclTolerance = 1e-7 * isc + 1e-15;
 		this.steps = steps;
 		this.jac = new Float64Array(c.size * c.size);
 		this.piv = new Int32Array(c.size);
 		this.rhs = new Float64Array(c.size);
+		this.rhsLin = new Float64Array(c.size);
+		this.residual = new Float64Array(c.size);
+		this.magnitude = new Float64Array(c.size);
 		this.y = new Float64Array(c.size);
 		this.yNew = new Float64Array(c.size);
 		this.vj = new Float64Array(c.junctions.length);
@@ -755,6 +768,47 @@ class Integrator {
 		for (let i = 0; i < src.length; i++) dst[i] = src[i];
 	}
 
+	/**
+	 * Whether y satisfies the step's equations with the true junction currents, to kclTolerance plus the
+	 * rounding floor of each row (1e-12 of the magnitudes it sums). This accepts the solution of
+	 * an ill-conditioned system, such as a node between a large capacitor and a blocking diode,
+	 * whose junction voltages jitter by rounding from one iteration to the next.
+	 */
+	private kclHolds(y: Float64Array): boolean {
+		const { c } = this;
+		const n = c.size;
+		const res = this.residual;
+		const mag = this.magnitude;
+		for (let r = 0; r < n; r++) {
+			let sum = -this.rhsLin[r];
+			let abs = Math.abs(this.rhsLin[r]);
+			for (let k = 0; k < n; k++) {
+				const t = c.gLin[r * n + k] * y[k];
+				sum += t;
+				abs += Math.abs(t);
+			}
+			res[r] = sum;
+			mag[r] = abs;
+		}
+		for (const j of c.junctions) {
+			const vd = (j.a >= 0 ? y[j.a] : 0) - (j.k >= 0 ? y[j.k] : 0);
+			junctionCurrent(j, vd, this.jCur);
+			const i = this.jCur.i;
+			if (j.a >= 0) {
+				res[j.a] += i;
+				mag[j.a] += Math.abs(i);
+			}
+			if (j.k >= 0) {
+				res[j.k] -= i;
+				mag[j.k] += Math.abs(i);
+			}
+		}
+		for (let r = 0; r < n; r++) {
+			if (!(Math.abs(res[r]) <= this.kclTolerance + 1e-12 * mag[r])) return false;
+		}
+		return true;
+	}
+
 	/** Solves one time step at source voltage e from state z; leaves the solution in this.y. */
 	private solveStep(e: number, z: Float64Array): void {
 		const { c } = this;
@@ -779,6 +833,7 @@ class Integrator {
 			this.stats.newtonIterations++;
 			this.copyInto(this.jac, c.gLin);
 			this.fillBase(e, z);
+			this.copyInto(this.rhsLin, base);
 			for (let d = 0; d < c.junctions.length; d++) {
 				const j = c.junctions[d];
 				const vd = this.vj[d];
@@ -811,7 +866,9 @@ class Integrator {
 				this.vj[d] = limitJunction(j, vnew, vold);
 			}
 			this.copyInto(this.y, base);
-			if (converged) return;
+			// Well-conditioned steps converge by the junction tests within a few iterations; the
+			// KCL test is the fallback for the ill-conditioned ones.
+			if (converged || (it >= KCL_FALLBACK_AFTER && this.kclHolds(base))) return;
 		}
 		throw new SignatureError(
 			'no_convergence',
@@ -819,32 +876,76 @@ class Integrator {
 		);
 	}
 
-	/** Adds this step's transition to the monodromy matrix: S ← A·S. */
-	private accumulate(sens: Float64Array): void {
+	/** The state's transition over the step just solved, from the factored Jacobian, into stepMatrix. */
+	private computeStepMatrix(): void {
 		const { c } = this;
 		const m = c.m;
 		const m2 = 2 * m;
 		const n = c.size;
 		const a = this.stepMatrix;
-		if (!this.linear || !this.stepMatrixReady) {
-			a.fill(0);
-			for (let col = 0; col < m2; col++) {
-				for (let r = 0; r < n; r++) this.col[r] = c.hist[r * m2 + col];
-				luSolve(this.jac, n, this.piv, this.col);
-				for (let k = 0; k < m; k++) a[k * m2 + col] = this.q(k, this.col);
-			}
-			for (let k = 0; k < m; k++) a[(m + k) * m2 + k] = 1;
-			this.stepMatrixReady = true;
+		a.fill(0);
+		for (let col = 0; col < m2; col++) {
+			for (let r = 0; r < n; r++) this.col[r] = c.hist[r * m2 + col];
+			luSolve(this.jac, n, this.piv, this.col);
+			for (let k = 0; k < m; k++) a[k * m2 + col] = this.q(k, this.col);
 		}
-		const t = this.tmp;
+		for (let k = 0; k < m; k++) a[(m + k) * m2 + k] = 1;
+	}
+
+	/** out ← a·b for 2m × 2m matrices (out may not alias a or b). */
+	private multiply(a: Float64Array, b: Float64Array, out: Float64Array): void {
+		const m2 = 2 * this.c.m;
 		for (let r = 0; r < m2; r++) {
 			for (let col = 0; col < m2; col++) {
 				let s = 0;
-				for (let k = 0; k < m2; k++) s += a[r * m2 + k] * sens[k * m2 + col];
-				t[r * m2 + col] = s;
+				for (let k = 0; k < m2; k++) s += a[r * m2 + k] * b[k * m2 + col];
+				// Flush what would become subnormal: fast-decaying modes underflow over a period, and
+				// subnormal arithmetic is two orders of magnitude slower.
+				out[r * m2 + col] = Math.abs(s) < 1e-200 ? 0 : s;
 			}
 		}
-		this.copyInto(sens, t);
+	}
+
+	/** Adds this step's transition to the monodromy matrix: S ← A·S. */
+	private accumulate(sens: Float64Array): void {
+		this.computeStepMatrix();
+		this.multiply(this.stepMatrix, sens, this.tmp);
+		this.copyInto(sens, this.tmp);
+	}
+
+	/** A linear network's monodromy matrix A^steps, by repeated squaring of its one step matrix. */
+	private linearMonodromy(): Float64Array {
+		const m2 = 2 * this.c.m;
+		if (!this.linearFactored) {
+			this.copyInto(this.jac, this.c.gLin);
+			this.factor();
+			this.linearFactored = true;
+		}
+		this.computeStepMatrix();
+		let power = Float64Array.from(this.stepMatrix);
+		let result = new Float64Array(m2 * m2);
+		for (let k = 0; k < m2; k++) result[k * m2 + k] = 1;
+		let scratch = new Float64Array(m2 * m2);
+		for (let e = this.steps; e > 0; e >>= 1) {
+			if (e & 1) {
+				this.multiply(power, result, scratch);
+				[result, scratch] = [scratch, result];
+			}
+			if (e > 1) {
+				this.multiply(power, power, scratch);
+				[power, scratch] = [scratch, power];
+			}
+		}
+		return result;
+	}
+
+	/** The junction voltages the next step starts from, to restore after a failed trial. */
+	saveWarmStart(): Float64Array {
+		return Float64Array.from(this.vj);
+	}
+
+	restoreWarmStart(saved: Float64Array): void {
+		this.copyInto(this.vj, saved);
 	}
 
 	/** Simulates one period from state z0. */
@@ -856,7 +957,7 @@ class Integrator {
 		const zNext = new Float64Array(m2);
 		const v = new Float64Array(steps);
 		let sens: Float64Array | null = null;
-		if (withMonodromy) {
+		if (withMonodromy && !this.linear) {
 			sens = new Float64Array(m2 * m2);
 			for (let k = 0; k < m2; k++) sens[k * m2 + k] = 1;
 		}
@@ -872,17 +973,33 @@ class Integrator {
 			}
 			this.copyInto(z, zNext);
 		}
+		if (withMonodromy && this.linear) {
+			this.monodromyCache ??= this.linearMonodromy();
+			sens = this.monodromyCache;
+		}
 		return { zEnd: z, v, monodromy: sens };
 	}
 }
 
-function stateResidual(c: Circuit, z0: Float64Array, zEnd: Float64Array, out: Float64Array): number {
+/**
+ * r = zEnd − z0, and its size in full-scale units (capacitor volts / Vs, inductor amperes /
+ * (Vs/Rs)): the largest component, and the root sum of squares the line search minimises.
+ */
+function stateResidual(
+	c: Circuit,
+	z0: Float64Array,
+	zEnd: Float64Array,
+	out: Float64Array
+): { max: number; l2: number } {
 	let worst = 0;
+	let sum = 0;
 	for (let k = 0; k < 2 * c.m; k++) {
 		out[k] = zEnd[k] - z0[k];
-		worst = Math.max(worst, Math.abs(out[k]) / c.qScale[k % c.m]);
+		const x = out[k] / c.qScale[k % c.m];
+		worst = Math.max(worst, Math.abs(x));
+		sum += x * x;
 	}
-	return worst;
+	return { max: worst, l2: Math.sqrt(sum) };
 }
 
 function maxDifference(a: Float64Array, b: Float64Array): number {
@@ -910,6 +1027,20 @@ function steadyState(c: Circuit, steps: number, vs: number, stats: SimulationSta
 	}
 }
 
+/** A period from a trial state, or null when a time step fails there (the state is too far out). */
+function tryPeriod(integ: Integrator, z: Float64Array): PeriodResult | null {
+	const saved = integ.saveWarmStart();
+	try {
+		return integ.period(z, true);
+	} catch (e) {
+		if (e instanceof SignatureError && e.code === 'no_convergence') {
+			integ.restoreWarmStart(saved);
+			return null;
+		}
+		throw e;
+	}
+}
+
 function shoot(c: Circuit, integ: Integrator, vs: number): Float64Array {
 	const m2 = 2 * c.m;
 	// Without capacitors or inductors the network has no memory: every period is the steady state.
@@ -919,20 +1050,25 @@ function shoot(c: Circuit, integ: Integrator, vs: number): Float64Array {
 	let z: Float64Array = new Float64Array(m2);
 	let cur = integ.period(z, true);
 	const r = new Float64Array(m2);
-	let norm = stateResidual(c, z, cur.zEnd, r);
+	let res = stateResidual(c, z, cur.zEnd, r);
+	/** Newton steps that failed to reduce the residual. */
+	let stalls = 0;
 	for (;;) {
-		if (norm <= STATE_TOLERANCE) {
-			const next = integ.period(cur.zEnd, false);
+		// Converged, or Newton is stuck on a mode so slow (a capacitor charged through a diode and
+		// discharged only by leakage) that the state residual cannot tell: then the definition
+		// itself decides, two successive periods agreeing.
+		if (res.max <= STATE_TOLERANCE || stalls >= 2) {
+			const next = integ.period(cur.zEnd, true);
 			if (maxDifference(cur.v, next.v) <= PERIOD_AGREEMENT * vs) return next.v;
 			if (!budgetLeft()) throw notConverged();
 			z = cur.zEnd;
-			cur = integ.period(z, true);
-			norm = stateResidual(c, z, cur.zEnd, r);
-			continue;
+			cur = next;
+			res = stateResidual(c, z, cur.zEnd, r);
+			if (res.max <= STATE_TOLERANCE) continue;
 		}
 		if (!budgetLeft()) throw notConverged();
 
-		// Newton on P(z) − z = 0: (M − I)·Δ = −r.
+		// Newton on P(z) − z = 0: (M − I)·Δ = −r, damped by halving until the residual shrinks.
 		const mat = Float64Array.from(cur.monodromy!);
 		for (let k = 0; k < m2; k++) mat[k * m2 + k] -= 1;
 		const rhs = Float64Array.from(r, (x) => -x);
@@ -940,27 +1076,32 @@ function shoot(c: Circuit, integ: Integrator, vs: number): Float64Array {
 
 		let lambda = 1;
 		let accepted = false;
-		for (let tries = 0; tries < 4 && budgetLeft(); tries++) {
+		for (let tries = 0; tries < 6 && budgetLeft(); tries++) {
 			const zt = Float64Array.from(z, (x, k) => x + lambda * delta[k]);
-			const trial = integ.period(zt, true);
+			const trial = tryPeriod(integ, zt);
+			if (!trial) {
+				lambda /= 2;
+				continue;
+			}
 			const rt = new Float64Array(m2);
 			const nt = stateResidual(c, zt, trial.zEnd, rt);
-			if (Number.isFinite(nt) && nt < norm) {
+			if (Number.isFinite(nt.l2) && nt.l2 < res.l2) {
 				z = zt;
 				cur = trial;
 				r.set(rt);
-				norm = nt;
+				res = nt;
 				accepted = true;
 				break;
 			}
-			lambda /= 4;
+			lambda /= 2;
 		}
 		if (!accepted) {
-			// Newton made no progress: take one period of plain transient and try again from there.
+			// No progress: take one period of plain transient and try again from there.
+			stalls++;
 			if (!budgetLeft()) throw notConverged();
 			z = cur.zEnd;
 			cur = integ.period(z, true);
-			norm = stateResidual(c, z, cur.zEnd, r);
+			res = stateResidual(c, z, cur.zEnd, r);
 		}
 	}
 }
