@@ -75,6 +75,18 @@ test('an invalid address is refused beside the field', async ({ page }) => {
 	await expect(page.getByLabel('E-mail address')).toHaveAttribute('aria-invalid', 'true');
 });
 
+test('the sixth link for one address within 15 minutes is refused with a clear message', async ({ page }) => {
+	// A fresh address, so no other test's requests count; the limit is 5 per 15 minutes.
+	const email = `flood.${Date.now()}@lab.example`;
+	for (let i = 0; i < 5; i++) await requestSignInLink(page, email);
+	await page.goto('/login');
+	await page.getByLabel('E-mail address').fill(email);
+	await page.getByRole('button', { name: 'Send me a sign-in link' }).click();
+	// The first request was seconds ago, so its slot frees in 15 minutes (14 if the clock just ticked).
+	await expect(page.locator('#email-error')).toHaveText(/^Too many sign-in links requested for this address; try again in 1[45] minutes\.$/);
+	await expect(page.getByRole('heading', { name: 'Check your e-mail' })).toHaveCount(0);
+});
+
 test('a sign-in target on another site is ignored', async ({ page }) => {
 	await signIn(page, 'pim.contributor@fernhollow.example', { redirectTo: 'https://elsewhere.example/steal', fresh: true });
 	await expect(page).toHaveURL(/^http:\/\/localhost:\d+\/$/);

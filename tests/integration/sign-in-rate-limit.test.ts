@@ -1,5 +1,5 @@
 import { afterAll, beforeEach, describe, expect, it } from 'vitest';
-import { admitSignInRequest, SIGN_IN_LIMITS } from '../../src/lib/server/auth/rate-limit';
+import { admitSignInRequest, SIGN_IN_LIMITS, signInLimits } from '../../src/lib/server/auth/rate-limit';
 import { openTestDb, truncateAll } from './setup-db';
 
 const db = openTestDb();
@@ -70,5 +70,18 @@ describe('sign-in link rate limit (stored in Postgres)', () => {
 			.select((eb) => eb.fn.countAll<string>().as('n'))
 			.executeTakeFirstOrThrow();
 		expect(Number(n)).toBe(2);
+	});
+
+	it('applies configured counts in the same 15-minute windows', async () => {
+		const limits = signInLimits({ SIGN_IN_LINKS_PER_ADDRESS: 2, SIGN_IN_LINKS_PER_CLIENT: 50 });
+		expect(limits.address).toEqual({ max: 2, windowMinutes: 15 });
+		for (let i = 0; i < 2; i++) {
+			expect(await admitSignInRequest(db, { email: 'cfg@lab.example', client: '198.51.100.9', now: at(i) }, limits)).toEqual({ allowed: true });
+		}
+		expect(await admitSignInRequest(db, { email: 'cfg@lab.example', client: '198.51.100.9', now: at(3) }, limits)).toMatchObject({
+			allowed: false,
+			scope: 'address',
+			retryAfterMinutes: 12
+		});
 	});
 });

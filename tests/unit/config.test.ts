@@ -43,3 +43,18 @@ describe('loadConfig', () => {
 		expect(loadConfig({ ...base, DATABASE_POOL_MAX: '25' }).DATABASE_POOL_MAX).toBe(25);
 	});
 });
+
+describe('sign-in link limits', () => {
+	it('default to 5 per address and 20 per client, and accept whole numbers from the environment', () => {
+		expect(loadConfig(base)).toMatchObject({ SIGN_IN_LINKS_PER_ADDRESS: 5, SIGN_IN_LINKS_PER_CLIENT: 20 });
+		expect(loadConfig({ ...base, SIGN_IN_LINKS_PER_ADDRESS: '8', SIGN_IN_LINKS_PER_CLIENT: '200' })).toMatchObject({
+			SIGN_IN_LINKS_PER_ADDRESS: 8,
+			SIGN_IN_LINKS_PER_CLIENT: 200
+		});
+	});
+
+	it('refuses zero and fractions with the variable named', () => {
+		expect(() => loadConfig({ ...base, SIGN_IN_LINKS_PER_ADDRESS: '0' })).toThrowError(/SIGN_IN_LINKS_PER_ADDRESS/);
+		expect(() => loadConfig({ ...base, SIGN_IN_LINKS_PER_CLIENT: '2.5' })).toThrowError(/SIGN_IN_LINKS_PER_CLIENT/);
+	});
+});

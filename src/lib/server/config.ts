@@ -37,6 +37,15 @@ const configSchema = z.object({
 	DEV_MAILBOX_URL: optionalUrl(['http:'], 'DEV_MAILBOX_URL'),
 	MEILISEARCH_URL: optionalUrl(['http:', 'https:'], 'MEILISEARCH_URL'),
 	MEILISEARCH_KEY: z.preprocess(emptyToUndefined, z.string().optional()),
+	// Sign-in links per 15 minutes, per e-mail address and per client address (see auth/rate-limit.ts).
+	SIGN_IN_LINKS_PER_ADDRESS: z.preprocess(
+		emptyToUndefined,
+		z.coerce.number().int('SIGN_IN_LINKS_PER_ADDRESS must be a whole number.').min(1).max(1000).optional().default(5)
+	),
+	SIGN_IN_LINKS_PER_CLIENT: z.preprocess(
+		emptyToUndefined,
+		z.coerce.number().int('SIGN_IN_LINKS_PER_CLIENT must be a whole number.').min(1).max(10000).optional().default(20)
+	),
 	DATABASE_POOL_MAX: z.preprocess(
 		emptyToUndefined,
 		z.coerce.number().int('DATABASE_POOL_MAX must be a whole number.').min(1).max(200).optional().default(10)

@@ -3,7 +3,7 @@ import { z } from 'zod';
 import { requestSignInLink } from '../../auth';
 import { SENT_TO_COOKIE } from '$lib/server/auth/cookies';
 import { currentPrincipal } from '$lib/server/auth/guard';
-import { admitSignInRequest, type RateDecision } from '$lib/server/auth/rate-limit';
+import { admitSignInRequest, type RateDecision, signInLimits } from '$lib/server/auth/rate-limit';
 import { safeRedirectPath } from '$lib/server/auth/redirect';
 import { db } from '$lib/server/db';
 import { config } from '$lib/server/env';
@@ -35,7 +35,8 @@ export const actions: Actions = {
 		const { email } = parsed.data;
 		const redirectTo = safeRedirectPath(parsed.data.redirectTo);
 
-		const decision = await admitSignInRequest(db, { email, client: event.getClientAddress() });
+		// Behind a proxy, adapter-node's ADDRESS_HEADER / XFF_DEPTH make this the real client.
+		const decision = await admitSignInRequest(db, { email, client: event.getClientAddress() }, signInLimits(config()));
 		if (!decision.allowed) {
 			return fail(429, { values: { email }, fieldErrors: { email: [limitMessage(decision)] } });
 		}

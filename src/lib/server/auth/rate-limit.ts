@@ -21,6 +21,14 @@ export const SIGN_IN_LIMITS: Readonly<Record<RateScope, RateLimit>> = {
 	client: { max: 20, windowMinutes: 15 }
 };
 
+/** The limits with the per-window counts taken from configuration (same 15-minute windows). */
+export function signInLimits(config: { SIGN_IN_LINKS_PER_ADDRESS: number; SIGN_IN_LINKS_PER_CLIENT: number }): Record<RateScope, RateLimit> {
+	return {
+		address: { ...SIGN_IN_LIMITS.address, max: config.SIGN_IN_LINKS_PER_ADDRESS },
+		client: { ...SIGN_IN_LIMITS.client, max: config.SIGN_IN_LINKS_PER_CLIENT }
+	};
+}
+
 export type RateDecision =
 	| { allowed: true }
 	| { allowed: false; scope: RateScope; retryAfterMinutes: number };
