@@ -9,7 +9,7 @@ import { readFileSync, statSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { parseArgs } from 'node:util';
 import { analyse } from '../src/lib/signature/analyse';
-import { canonicalise } from '../src/lib/signature/canonical';
+import { canonicalise, inferUnits } from '../src/lib/signature/canonical';
 import { compare } from '../src/lib/signature/compare';
 import { testConditions } from '../src/lib/signature/conditions';
 import { toCanonical } from '../src/lib/signature/curve';
@@ -183,7 +183,7 @@ function loadCurve(path: string, conditions: TestConditions, parseOptions: Parse
 	const bytes = readBytes(path);
 	const saved = savedCurve(bytes);
 	if (saved) return saved;
-	const capture = parseCapture(bytes, parseOptions);
+	const capture = inferUnits(parseCapture(bytes, parseOptions), conditions);
 	const curve = canonicalise(capture.samples, conditions, { points: n });
 	curve.warnings = [...capture.warnings, ...(curve.warnings ?? [])];
 	return curve;
@@ -205,7 +205,7 @@ function analyzeCommand(positionals: string[], values: Values): void {
 	const [file] = onePositional(positionals, 'one capture FILE', 1);
 	const conditions = conditionsFrom(values);
 	const bytes = readBytes(file);
-	const capture = parseCapture(bytes, captureOptions(values, values['sense-ohm'], 'sense-ohm'));
+	const capture = inferUnits(parseCapture(bytes, captureOptions(values, values['sense-ohm'], 'sense-ohm')), conditions);
 	const curve = canonicalise(capture.samples, conditions, { points: points(values) });
 	const analysis = analyse(curve);
 	const warnings = [...new Set([...capture.warnings, ...(curve.warnings ?? []), ...analysis.warnings])];

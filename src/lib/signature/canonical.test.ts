@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { linearCurve, type LinearPart } from '../../../tests/support/analytic';
-import { logUniform, pick, seededRandom, synthesiseSamples, type Rng } from '../../../tests/support/captures';
-import { canonicalise } from './canonical';
+import { logUniform, pick, seededRandom, synthesiseSamples, writeCapture, type Rng } from '../../../tests/support/captures';
+import { canonicalise, inferUnits } from './canonical';
+import { parseCapture } from './parse';
 import { toCanonical } from './curve';
 import { SignatureError } from './errors';
 import type { CanonicalCurve, Samples, TestConditions } from './types';
@@ -214,5 +215,37 @@ describe('canonicalise', () => {
 		// v + i·Rs constant: no source signal at all.
 		const flat = { v: s.i.map((x) => 1 - x * 1000), i: s.i };
 		expect(code(() => canonicalise(flat, c))).toBe('no_period');
+	});
+
+	it('infers mV, mA or µA for a file that states no units, from the physics of the tester', () => {
+		// e = v + i·Rs must have amplitude Vs, with |v| ≤ Vs and |i| ≤ Vs/Rs (the tester circuit).
+		const c = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 };
+		const rng = seededRandom(12);
+		for (const [part, vu, iu] of [
+			[{ kind: 'resistor', ohms: 2200 }, 'V', 'mA'],
+			[{ kind: 'capacitor', farads: 1e-6 }, 'mV', 'uA'],
+			[{ kind: 'short' }, 'V', 'mA'],
+			[{ kind: 'open' }, 'mV', 'A']
+		] as [LinearPart, 'V' | 'mV', 'A' | 'mA' | 'uA'][]) {
+			const s = synthesiseSamples(linearCurve(part, c, 4096), { rng, noise: 0.01, samplesPerPeriod: 300, periods: 3.3 });
+			const file = writeCapture(s, {
+				format: 'vi-csv', delimiter: ',', header: null, voltageUnit: vu, currentUnit: iu,
+				withTime: false, currentFirst: false, crlf: false, bom: false, comments: false, decimalComma: false
+			});
+			// Without the units the user should have entered:
+			const parsed = parseCapture(file.text);
+			const fixed = inferUnits(parsed, c);
+			const curve = canonicalise(fixed.samples, c);
+			expect(rmsDistance(curve, linearCurve(part, c)), `${part.kind} ${vu} ${iu}`).toBeLessThan(0.02);
+			const rescaled = vu !== 'V' || (iu !== 'A' && part.kind !== 'open');
+			expect(fixed.warnings.some((w) => /does not state its units/.test(w))).toBe(rescaled);
+			// With the units entered nothing is guessed.
+			const told = parseCapture(file.text, file.parseOptions);
+			expect(inferUnits(told, c)).toBe(told);
+		}
+		// Units in the header are never overridden, even when they misfit the conditions.
+		const s = synthesiseSamples(linearCurve({ kind: 'resistor', ohms: 2200 }, c, 4096), { rng, noise: 0.01, samplesPerPeriod: 300, periods: 3.3 });
+		const stated = parseCapture(['V,I (A)', ...s.v.map((v, k) => `${v},${s.i[k] * 1e3}`)].join('\n'));
+		expect(inferUnits(stated, c)).toBe(stated);
 	});
 });

@@ -37,7 +37,7 @@
 import { testConditions } from './conditions';
 import { toCanonical } from './curve';
 import { SignatureError } from './errors';
-import type { CanonicalCurve, Samples, TestConditions } from './types';
+import type { CanonicalCurve, ParsedCapture, Samples, TestConditions } from './types';
 import { CANONICAL_POINTS } from './types';
 
 const TWO_PI = 2 * Math.PI;
@@ -598,4 +598,74 @@ function checkClipping(x: ArrayLike<number>, fullScale: number, name: string, wa
 			`The ${name} sits at its ${atHi >= atLo ? 'maximum' : 'minimum'} for ${pct(Math.max(atLo, atHi) / n)} of the samples: the capture looks clipped. Widen the scope's vertical range.`
 		);
 	}
+}
+
+const UNIT_NAMES: Record<string, string> = { '1V': 'V', '0.001V': 'mV', '1A': 'A', '0.001A': 'mA', '0.000001A': 'µA' };
+
+/**
+ * A file that does not state its units is read as V and A. The tester's physics tells which units
+ * fit: the source e = v + i·Rs has amplitude Vs, |v| ≤ Vs and |i| ≤ Vs/Rs. When V and A miss that
+ * by more than a factor of 2 and mV, mA or µA fit within 25 %, this returns the capture rescaled,
+ * with a warning saying so; otherwise the capture as it was (canonicalise then warns about the
+ * amplitude). Units the file or the options stated are never changed.
+ */
+export function inferUnits(capture: ParsedCapture, conditions: TestConditions): ParsedCapture {
+	const stated = capture.unitsStated;
+	if (!stated || (stated.voltage && stated.current)) return capture;
+	const { v, i } = capture.samples;
+	const n = v.length;
+	const vs = conditions.sourcePeakV;
+	const rs = conditions.sourceResistanceOhm;
+	if (!(vs > 0 && rs > 0) || n < 2) return capture;
+	let sv = 0;
+	let si = 0;
+	let svv = 0;
+	let sii = 0;
+	let svi = 0;
+	let pv = 0;
+	let pi = 0;
+	for (let k = 0; k < n; k++) {
+		sv += v[k];
+		si += i[k];
+		svv += v[k] * v[k];
+		sii += i[k] * i[k];
+		svi += v[k] * i[k];
+		pv = Math.max(pv, Math.abs(v[k]));
+		pi = Math.max(pi, Math.abs(i[k]));
+	}
+	const varV = svv / n - (sv / n) ** 2;
+	const varI = sii / n - (si / n) ** 2;
+	const cov = svi / n - (sv / n) * (si / n);
+	/** |ln(amplitude of e / Vs)|, or Infinity when a channel exceeds its full scale. */
+	const misfit = (a: number, b: number): number => {
+		if (a * pv > 1.5 * vs || b * pi * rs > 1.5 * vs) return Infinity;
+		const varE = a * a * varV + b * b * rs * rs * varI + 2 * a * b * rs * cov;
+		const amp = Math.sqrt(2 * Math.max(0, varE));
+		return amp > 0 ? Math.abs(Math.log(amp / vs)) : Infinity;
+	};
+	if (misfit(1, 1) < Math.LN2) return capture;
+	let best = { a: 1, b: 1, m: misfit(1, 1) };
+	for (const a of stated.voltage ? [1] : [1, 1e-3]) {
+		for (const b of stated.current ? [1] : [1, 1e-3, 1e-6]) {
+			const m = misfit(a, b);
+			if (m < best.m) best = { a, b, m };
+		}
+	}
+	if (best.m > Math.log(1.25) || (best.a === 1 && best.b === 1)) return capture;
+	const { a, b } = best;
+	const changed = [
+		a !== 1 ? `the voltage as ${UNIT_NAMES[`${a}V`]}` : '',
+		b !== 1 ? `the current as ${UNIT_NAMES[`${b}A`]}` : ''
+	].filter(Boolean);
+	const samples: Samples = { v: a === 1 ? v : v.map((x) => x * a), i: b === 1 ? i : i.map((x) => x * b) };
+	if (capture.samples.t) samples.t = capture.samples.t;
+	return {
+		...capture,
+		samples,
+		unitsStated: { voltage: true, current: true },
+		warnings: [
+			...capture.warnings,
+			`The file does not state its units, and read as volts and amperes it does not fit the conditions entered; read ${changed.join(' and ')}, which does. State the units to be sure.`
+		]
+	};
 }

@@ -1,13 +1,13 @@
 /**
  * The signature engine's public API, and the pipeline that takes a capture file to an analysis:
  *
- *   parseCapture (file → SI samples) → canonicalise (samples → one period on the phase grid)
- *   → analyse (class, parameters, residual)
+ *   parseCapture (file → SI samples) → inferUnits (only for files that do not state their units)
+ *   → canonicalise (samples → one period on the phase grid) → analyse (class, parameters, residual)
  *
  * Pure TypeScript with no I/O, so the browser previews with the same code the server trusts.
  */
 import { analyse } from './analyse';
-import { canonicalise } from './canonical';
+import { canonicalise, inferUnits } from './canonical';
 import { parseCapture } from './parse';
 import type { Analysis, CanonicalCurve, ParseOptions, ParsedCapture, TestConditions } from './types';
 
@@ -17,7 +17,7 @@ export * from './conditions';
 export { toCanonical } from './curve';
 export { formatSI, formatConditions } from './format';
 export { parseCapture, MAX_BYTES, MAX_SAMPLES, MIN_SAMPLES } from './parse';
-export { canonicalise } from './canonical';
+export { canonicalise, inferUnits } from './canonical';
 export { analyse, KNEE_CURRENT_FRACTION } from './analyse';
 export {
 	compare,
@@ -48,7 +48,7 @@ export function analyseCapture(
 	options: ParseOptions & { points?: number } = {}
 ): CaptureAnalysis {
 	const { points, ...parseOptions } = options;
-	const capture = parseCapture(input, parseOptions);
+	const capture = inferUnits(parseCapture(input, parseOptions), conditions);
 	const curve = canonicalise(capture.samples, conditions, { points });
 	const analysis = analyse(curve);
 	const warnings = [...new Set([...capture.warnings, ...(curve.warnings ?? []), ...analysis.warnings])];

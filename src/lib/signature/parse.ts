@@ -410,6 +410,8 @@ interface Layout {
 	scaleT: number;
 	scaleA: number;
 	scaleB: number;
+	/** Whether the header or the options stated the unit of the voltage and of the current. */
+	stated: { voltage: boolean; current: boolean };
 	warnings: string[];
 }
 
@@ -815,7 +817,9 @@ function parseDelimited(text: string, options: ParseOptions): ParsedCapture {
 		t = new Array<number>(count);
 		for (let k = 0; k < count; k++) t[k] = k * found.intervalS;
 	}
-	return finish(layout.format, { t, v, i }, metadata, warnings, options);
+	const parsed = finish(layout.format, { t, v, i }, metadata, warnings, options);
+	parsed.unitsStated = layout.stated;
+	return parsed;
 }
 
 function tooMany(n: number): SignatureError {
@@ -946,7 +950,16 @@ function chooseLayout(
 		scaleB = scaleOf(b, 'voltage', vDefault);
 	}
 	const scaleT = time === null ? 1 : scaleOf(time, 'time', 1);
-	return { format, time, a, b, scaleT, scaleA, scaleB, warnings };
+	const statedBy = (k: number, kind: UnitKind, option: unknown) =>
+		option !== undefined || (columns?.[k]?.scale !== null && columns?.[k]?.unitKind === kind);
+	const stated = {
+		voltage: statedBy(a, 'voltage', options.voltageUnit),
+		current:
+			format === 'vi-csv'
+				? statedBy(b, 'current', options.currentUnit)
+				: statedBy(b, 'voltage', options.voltageUnit)
+	};
+	return { format, time, a, b, scaleT, scaleA, scaleB, stated, warnings };
 }
 
 // ---------------------------------------------------------------------------------------------

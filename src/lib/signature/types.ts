@@ -47,6 +47,11 @@ export interface ParsedCapture {
 	metadata: Record<string, string>;
 	/** Things a technician should know that did not stop the import. */
 	warnings: string[];
+	/**
+	 * Whether the file or the options stated the units of the voltage and the current (absent: both
+	 * stated, as in our SI JSON). Unstated units were taken as V and A.
+	 */
+	unitsStated?: { voltage: boolean; current: boolean };
 }
 
 /** Number of points of every canonical curve, uniformly spaced in source phase. */
