@@ -6,6 +6,7 @@ import {
 	extent,
 	fullScale,
 	panRange,
+	plotSummary,
 	tickLabels,
 	ticks,
 	tickStep,
@@ -149,5 +150,27 @@ describe('extent', () => {
 	it('finds the finite minimum and maximum', () => {
 		expect(extent([3, -2, NaN, 7])).toEqual([-2, 7]);
 		expect(extent([])).toBeNull();
+	});
+});
+
+describe('plotSummary', () => {
+	it('names the conditions, full scale and each curve with its extents', () => {
+		// A 1 kΩ resistor at 10 V through 1 kΩ: half the source across it, so ±5 V and ±5 mA (Ohm's law).
+		const v = [0, 5, 0, -5];
+		const i = [0, 0.005, 0, -0.005];
+		expect(
+			plotSummary([{ label: 'R7', role: 'known-good', v, i }], {
+				sourcePeakV: 10,
+				sourceResistanceOhm: 1000,
+				frequencyHz: 60
+			})
+		).toEqual([
+			'V-I plot at 10 V · 1 kΩ · 60 Hz; full scale ±10 V and ±10 mA.',
+			'Known-good, R7: voltage -5 V to 5 V, current -5 mA to 5 mA.'
+		]);
+	});
+
+	it('says so when there is nothing to plot', () => {
+		expect(plotSummary([], { sourcePeakV: 5, sourceResistanceOhm: 100, frequencyHz: 50 })[1]).toBe('No curves.');
 	});
 });

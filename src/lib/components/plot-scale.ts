@@ -3,6 +3,7 @@
  * positions and their labels with engineering prefixes, keyboard zoom and pan, and closing a curve
  * into a loop. Pure functions of plain values.
  */
+import { formatConditions, formatSI } from '../signature/format';
 import type { TestConditions } from '../signature/types';
 
 /** A closed interval [min, max] on one axis, SI units. */
@@ -156,4 +157,39 @@ export function extent(values: readonly number[]): Range | null {
 		if (x > max) max = x;
 	}
 	return min <= max ? [min, max] : null;
+}
+
+/** How each curve role is named to people. */
+export const ROLE_NAMES = {
+	fault: 'Fault',
+	'known-good': 'Known-good',
+	other: 'Other',
+	query: 'Capture'
+} as const;
+
+export interface SummaryCurve {
+	label: string;
+	role: keyof typeof ROLE_NAMES;
+	v: readonly number[];
+	i: readonly number[];
+}
+
+/**
+ * The plot in words, for screen readers and for the server-rendered placeholder: conditions, full
+ * scale, and each curve's role, label and the span of its voltage and current.
+ */
+export function plotSummary(curves: readonly SummaryCurve[], conditions: TestConditions): string[] {
+	const full = fullScale(conditions);
+	const lines = [
+		`V-I plot at ${formatConditions(conditions)}; full scale ±${formatSI(full.v[1], 'V')} and ±${formatSI(full.i[1], 'A')}.`
+	];
+	if (curves.length === 0) lines.push('No curves.');
+	for (const c of curves) {
+		const v = extent(c.v);
+		const i = extent(c.i);
+		const span = (r: Range | null, unit: string) =>
+			r ? `${formatSI(r[0], unit)} to ${formatSI(r[1], unit)}` : 'no values';
+		lines.push(`${ROLE_NAMES[c.role]}, ${c.label}: voltage ${span(v, 'V')}, current ${span(i, 'A')}.`);
+	}
+	return lines;
 }
