@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { ROLES } from '../server/auth/permissions';
+import { ROLES } from '../roles';
 
 /**
  * Input rules for organisations, members, invitations and API tokens, shared by form actions,
- * JSON endpoints and form hints. Free of server imports (permissions.ts is pure).
+ * JSON endpoints and form hints. Free of server imports, so the browser can use them too.
  */
 
 /** The slug's shape, as the database's check constraint has it: 1–40 of a–z, 0–9 and inner hyphens. */

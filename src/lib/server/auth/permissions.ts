@@ -4,8 +4,9 @@
  *
  * Roles are cumulative, lowest first: each role may do everything the one before it may.
  */
-export const ROLES = ['viewer', 'contributor', 'author', 'admin'] as const;
-export type Role = (typeof ROLES)[number];
+import { isRole, ROLE_LABELS, ROLES, type Role } from '../../roles';
+
+export { isRole, ROLE_LABELS, ROLES, type Role };
 
 /** Every action a member can be allowed, grouped by the lowest role that gets it. */
 const GRANTS = {
@@ -55,10 +56,6 @@ export function roleRank(role: Role): number {
 	return ROLES.indexOf(role);
 }
 
-export function isRole(value: unknown): value is Role {
-	return typeof value === 'string' && (ROLES as readonly string[]).includes(value);
-}
-
 /** Whether `role` may perform `action`. */
 export function can(role: Role, action: Action): boolean {
 	return roleRank(role) >= roleRank(MIN_ROLE[action]);
@@ -78,13 +75,6 @@ export function lowerRole(a: Role, b: Role): Role {
 export function grantableTokenRoles(role: Role): Role[] {
 	return ROLES.filter((r) => roleRank(r) <= roleRank(role));
 }
-
-export const ROLE_LABELS: Readonly<Record<Role, string>> = {
-	viewer: 'Viewer',
-	contributor: 'Contributor',
-	author: 'Author',
-	admin: 'Admin'
-};
 
 export const ROLE_SUMMARIES: Readonly<Record<Role, string>> = {
 	viewer: 'Reads published entries, searches, matches a capture.',
