@@ -327,6 +327,53 @@ describe('simulate: textbook formulas', () => {
 	});
 });
 
+describe('simulate: random networks over the whole range of conditions', () => {
+	// Catalogue-like parts (values recalled from memory for the diodes) in random series/parallel
+	// networks, at conditions drawn over the full accepted range.
+	const diodes: DeviceModel[] = [
+		{ kind: 'diode', is: 2.52e-9, n: 1.752, rs: 0.568 },
+		{ kind: 'diode', is: 14.11e-9, n: 1.984, rs: 0.0339 },
+		{ kind: 'diode', is: 1e-14, n: 1, rs: 5, bv: 5.1 },
+		{ kind: 'diode', is: 1e-12, n: 1.2, rs: 2, bv: 12, ibv: 5e-3 },
+		{ kind: 'diode', is: 1e-6, n: 1.05, rs: 0.05 }
+	];
+	function network(rnd: () => number, depth: number): DeviceModel {
+		if (depth === 0 || rnd() < 0.5) {
+			const pick = Math.floor(rnd() * 5);
+			if (pick === 0) return { kind: 'resistor', ohms: logUniform(rnd, 1, 1e7) };
+			if (pick === 1) return { kind: 'capacitor', farads: logUniform(rnd, 1e-11, 1e-2) };
+			if (pick === 2) return { kind: 'inductor', henries: logUniform(rnd, 1e-6, 10) };
+			const d = diodes[Math.floor(rnd() * diodes.length)];
+			return rnd() < 0.5 ? d : ({ ...d, reversed: true } as DeviceModel);
+		}
+		const parts = Array.from({ length: 2 + Math.floor(rnd() * 2) }, () => network(rnd, depth - 1));
+		return { kind: rnd() < 0.5 ? 'series' : 'parallel', parts };
+	}
+
+	it('settles every one, obeys e = V + I·Rs and absorbs non-negative average power', () => {
+		// Passivity (Tellegen's theorem for networks of R, L, C and diodes): the time-average power
+		// V·I a passive network absorbs over a period of steady state is ≥ 0.
+		const rnd = random(16);
+		for (let trial = 0; trial < 30; trial++) {
+			const c: TestConditions = {
+				sourcePeakV: logUniform(rnd, 0.05, 100),
+				sourceResistanceOhm: logUniform(rnd, 1, 10e6),
+				frequencyHz: logUniform(rnd, 1, 100e3)
+			};
+			const model = network(rnd, 2);
+			const curve = simulate(model, c);
+			let power = 0;
+			curve.v.forEach((v, k) => {
+				expect(Number.isFinite(v)).toBe(true);
+				const e = c.sourcePeakV * Math.sin((2 * Math.PI * k) / curve.v.length);
+				expect(Math.abs(v + curve.i[k] * c.sourceResistanceOhm - e)).toBeLessThan(1e-9 * c.sourcePeakV);
+				power += curve.vn[k] * curve.in[k];
+			});
+			expect(power / curve.v.length).toBeGreaterThan(-1e-6);
+		}
+	});
+});
+
 describe('simulate: facts of the trade', () => {
 	it('puts a silicon junction’s knee around 0.5–0.7 V', () => {
 		// Common practice, no source: a silicon junction starts to conduct around 0.5–0.7 V. The
