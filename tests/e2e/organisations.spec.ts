@@ -1,0 +1,106 @@
+import { expect, test } from '@playwright/test';
+import { latestSignInLink, signIn } from './support/sign-in';
+
+// The demo admin from src/lib/server/demo/seed.ts (DEMO_USERS), seeded into the e2e database.
+const ADMIN = 'ilse.admin@fernhollow.example';
+
+test('create an organisation, invite a viewer who accepts and meets the limits, then promote them', async ({ page, browser }) => {
+	const suffix = Date.now().toString(36);
+	const name = `Bench Three ${suffix}`;
+	const slug = `bench-three-${suffix}`;
+	const invitee = `wren.${suffix}@bench-three.example`;
+
+	// The admin creates an organisation from the switcher; the address follows the name.
+	await signIn(page, ADMIN);
+	const switcher = page.getByTestId('org-switcher');
+	await switcher.locator('summary').click();
+	await expect(switcher.getByRole('link', { name: 'Fernhollow Drive & Supply Repairs (demo)' })).toBeVisible();
+	await switcher.getByRole('link', { name: 'New organisation' }).click();
+	await page.getByLabel('Name').fill(name);
+	await expect(page.getByLabel('Address')).toHaveValue(slug);
+	await page.getByRole('button', { name: 'Create organisation' }).click();
+	await expect(page).toHaveURL(new RegExp(`/o/${slug}$`));
+	await expect(page.getByRole('heading', { level: 1 })).toHaveText(name);
+	await expect(page.getByTestId('org-role')).toContainText('admin');
+	await expect(page.getByText('No entries yet.')).toBeVisible();
+
+	// A reserved or taken address is refused beside the field.
+	await page.goto('/orgs/new');
+	await page.getByLabel('Name').fill('Another');
+	await page.getByLabel('Address').fill(slug);
+	await page.getByRole('button', { name: 'Create organisation' }).click();
+	await expect(page.getByText('That address is taken. Choose another.')).toBeVisible();
+
+	// Invite a viewer; a malformed address is refused first.
+	await page.goto(`/o/${slug}`);
+	await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Invitations' }).click();
+	await page.getByLabel('E-mail address').fill('not-an-address');
+	await page.getByRole('button', { name: 'Send invitation' }).click();
+	await expect(page.getByText('Enter a valid e-mail address')).toBeVisible();
+	await page.getByLabel('E-mail address').fill(invitee);
+	await page.getByLabel('Role').selectOption('viewer');
+	await page.getByRole('button', { name: 'Send invitation' }).click();
+	await expect(page.getByText(`Invitation sent to ${invitee}.`)).toBeVisible();
+	await expect(page.getByTestId('pending-invitation').filter({ hasText: invitee })).toBeVisible();
+	const inviteLink = await latestSignInLink(page, invitee);
+	expect(inviteLink).toContain('/invite/cli_');
+
+	// The invitee, in a browser of their own, opens the link, signs in with that address and joins.
+	const theirs = await browser.newContext();
+	const them = await theirs.newPage();
+	await them.goto(inviteLink);
+	await expect(them.getByRole('heading', { name: `Join ${name}` })).toBeVisible();
+	await expect(them.getByText('You are invited as viewer.')).toBeVisible();
+	await signIn(them, invitee, { redirectTo: new URL(inviteLink).pathname });
+	await them.getByRole('button', { name: `Join ${name}` }).click();
+	await expect(them).toHaveURL(new RegExp(`/o/${slug}$`));
+	await expect(them.getByTestId('org-role')).toContainText('viewer');
+
+	// A viewer's navigation has no admin sections, and the admin pages refuse them.
+	const nav = them.getByRole('navigation', { name: 'Main' });
+	await expect(nav.getByRole('link', { name: 'Overview' })).toBeVisible();
+	await expect(nav.getByRole('link', { name: 'Members' })).toHaveCount(0);
+	await expect(nav.getByRole('link', { name: 'Invitations' })).toHaveCount(0);
+	const refused = await them.goto(`/o/${slug}/members`);
+	expect(refused?.status()).toBe(403);
+	// The link works once.
+	await them.goto(inviteLink);
+	await expect(them.getByRole('heading', { name: 'This invitation has already been used' })).toBeVisible();
+	// Their API tokens can be at most viewer there.
+	await them.goto('/profile');
+	const tokens = them.getByTestId('api-tokens');
+	await tokens.getByLabel('Organisation').selectOption({ label: name });
+	await expect(tokens.getByLabel('Role').locator('option')).toHaveText(['Viewer']);
+
+	// The admin promotes them to author; the last admin cannot demote themselves.
+	await page.goto(`/o/${slug}/members`);
+	const row = page.getByTestId('member-row').filter({ hasText: invitee });
+	await row.getByRole('combobox').selectOption('author');
+	await row.getByRole('button', { name: 'Change role' }).click();
+	await expect(row.getByText('Role changed to author.')).toBeVisible();
+	const mine = page.getByTestId('member-row').filter({ hasText: ADMIN });
+	await mine.getByRole('combobox').selectOption('viewer');
+	await mine.getByRole('button', { name: 'Change role' }).click();
+	await expect(mine.getByText('An organisation needs at least one admin.')).toBeVisible();
+
+	await them.goto(`/o/${slug}`);
+	await expect(them.getByTestId('org-role')).toContainText('author');
+
+	// Everything above is in the audit log.
+	await page.goto(`/o/${slug}/audit`);
+	for (const action of ['org.created', 'invitation.created', 'member.joined', 'member.role_changed']) {
+		await expect(page.locator(`[data-action="${action}"]`).first()).toBeVisible();
+	}
+	await page.screenshot({ path: 'test-output/screenshots/org-audit.png', fullPage: true });
+	await theirs.close();
+});
+
+test('someone else’s organisation is a plain 404, like one that does not exist', async ({ page }) => {
+	// The author demo user belongs only to the demo organisation.
+	await signIn(page, 'teodor.author@fernhollow.example');
+	const missing = await page.goto('/o/no-such-bench-anywhere');
+	expect(missing?.status()).toBe(404);
+	await expect(page.getByRole('heading', { level: 1 })).toHaveText('There is nothing at this address');
+	const demo = await page.goto('/o/fernhollow/members');
+	expect(demo?.status()).toBe(403);
+});
