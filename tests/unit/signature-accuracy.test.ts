@@ -78,80 +78,106 @@ function expectedBreakdownV(bv: number, ibv: number, n: number, c: TestCondition
 	return bv + n * VT * Math.log(current / ibv);
 }
 
-function makeTrials(rng: Rng, perClass: number): Trial[] {
-	const trials: Trial[] = [];
-	for (let k = 0; k < perClass; k++) {
-		// Resistors within a decade either side of Rs: beyond that the tester's resolution, not the
-		// engine, limits the reading (the divider ratio's slope dh/dR vanishes).
-		let c = randomConditions(rng, [0.5, 50]);
-		let w = 2 * Math.PI * c.frequencyHz;
+/** One random trial of each kind, across the ranges. */
+const makers: Record<Exclude<SignatureClass, 'complex'>, (rng: Rng) => Trial> = {
+	// Resistors within a decade either side of Rs: beyond that the tester's resolution, not the
+	// engine, limits the reading (the divider ratio's slope dh/dR vanishes).
+	resistive: (rng) => {
+		const c = randomConditions(rng, [0.5, 50]);
 		const ohms = c.sourceResistanceOhm * logUniform(rng, 0.1, 10);
-		trials.push({
+		return {
 			expected: 'resistive',
 			model: { kind: 'resistor', ohms },
 			conditions: c,
 			truth: { param: 'resistanceOhm', value: ohms, tolerance: 0.02 }
-		});
-
-		c = randomConditions(rng, [0.5, 50]);
-		w = 2 * Math.PI * c.frequencyHz;
+		};
+	},
+	capacitive: (rng) => {
+		const c = randomConditions(rng, [0.5, 50]);
+		const w = 2 * Math.PI * c.frequencyHz;
 		const farads = 1 / (w * c.sourceResistanceOhm * logUniform(rng, 0.1, 10));
-		trials.push({
+		return {
 			expected: 'capacitive',
 			model: { kind: 'capacitor', farads },
 			conditions: c,
 			truth: { param: 'capacitanceF', value: farads, tolerance: 0.05 }
-		});
-
-		c = randomConditions(rng, [0.5, 50]);
-		w = 2 * Math.PI * c.frequencyHz;
+		};
+	},
+	inductive: (rng) => {
+		const c = randomConditions(rng, [0.5, 50]);
+		const w = 2 * Math.PI * c.frequencyHz;
 		const henries = (c.sourceResistanceOhm * logUniform(rng, 0.2, 10)) / w;
 		const winding = w * henries * logUniform(rng, 0.01, 0.3);
-		trials.push({
+		return {
 			expected: 'inductive',
-			model: { kind: 'series', parts: [{ kind: 'inductor', henries }, { kind: 'resistor', ohms: winding }] },
+			model: {
+				kind: 'series',
+				parts: [
+					{ kind: 'inductor', henries },
+					{ kind: 'resistor', ohms: winding }
+				]
+			},
 			conditions: c,
 			truth: { param: 'inductanceH', value: henries, tolerance: 0.05 }
-		});
-
-		c = randomConditions(rng, [2, 20]);
-		const d = { is: logUniform(rng, 1e-15, 1e-9), n: uniform(rng, 1, 2), rs: uniform(rng, 0, 0.03) * c.sourceResistanceOhm };
-		trials.push({
+		};
+	},
+	junction: (rng) => {
+		const c = randomConditions(rng, [2, 20]);
+		const d = {
+			is: logUniform(rng, 1e-15, 1e-9),
+			n: uniform(rng, 1, 2),
+			rs: uniform(rng, 0, 0.03) * c.sourceResistanceOhm
+		};
+		return {
 			expected: 'junction',
 			model: { kind: 'diode', ...d, reversed: rng() < 0.5 },
 			conditions: c,
 			truth: { param: 'kneeV', value: expectedKneeV(d, c), tolerance: 0.05 }
-		});
-
-		c = randomConditions(rng, [5, 30]);
+		};
+	},
+	zener: (rng) => {
+		const c = randomConditions(rng, [5, 30]);
 		const bv = uniform(rng, 3.3, 0.7 * c.sourcePeakV);
-		trials.push({
+		return {
 			expected: 'zener',
 			model: { kind: 'diode', bv, ibv: 1e-3, reversed: rng() < 0.5 },
 			conditions: c,
 			truth: { param: 'breakdownV', value: expectedBreakdownV(bv, 1e-3, 1, c), tolerance: 0.03 }
-		});
-
-		c = randomConditions(rng, [0.5, 50]);
-		trials.push({
+		};
+	},
+	open: (rng) => {
+		const c = randomConditions(rng, [0.5, 50]);
+		return {
 			expected: 'open',
 			model:
 				rng() < 0.5
 					? { kind: 'resistor', ohms: c.sourceResistanceOhm * logUniform(rng, 2000, 1e5) }
 					: { kind: 'open' },
 			conditions: c
-		});
-
-		c = randomConditions(rng, [0.5, 50]);
-		w = 2 * Math.PI * c.frequencyHz;
-		trials.push({
+		};
+	},
+	short: (rng) => {
+		const c = randomConditions(rng, [0.5, 50]);
+		const w = 2 * Math.PI * c.frequencyHz;
+		const ratio = logUniform(rng, 1e-5, 5e-4);
+		return {
 			expected: 'short',
 			model:
 				rng() < 0.5
-					? { kind: 'resistor', ohms: c.sourceResistanceOhm * logUniform(rng, 1e-5, 5e-4) }
-					: { kind: 'capacitor', farads: 1 / (w * c.sourceResistanceOhm * logUniform(rng, 1e-5, 5e-4)) },
+					? { kind: 'resistor', ohms: c.sourceResistanceOhm * ratio }
+					: { kind: 'capacitor', farads: 1 / (w * c.sourceResistanceOhm * ratio) },
 			conditions: c
-		});
+		};
+	}
+};
+
+/** `counts[kind]` trials of each kind, interleaved. */
+function makeTrials(rng: Rng, counts: Record<keyof typeof makers, number>): Trial[] {
+	const trials: Trial[] = [];
+	const kinds = Object.keys(makers) as (keyof typeof makers)[];
+	const most = Math.max(...kinds.map((k) => counts[k]));
+	for (let k = 0; k < most; k++) {
+		for (const kind of kinds) if (k < counts[kind]) trials.push(makers[kind](rng));
 	}
 	return trials;
 }
@@ -165,7 +191,8 @@ describe('engine accuracy on synthesised bench captures', () => {
 
 	beforeAll(() => {
 		const rng = seededRandom(20261201);
-		for (const trial of makeTrials(rng, 22)) {
+		const counts = { resistive: 30, capacitive: 30, inductive: 30, junction: 60, zener: 60, open: 20, short: 20 };
+		for (const trial of makeTrials(rng, counts)) {
 			results.push({ trial, analysis: analyseBench(trial.model, trial.conditions, rng).analysis });
 		}
 	}, 120_000);

@@ -44,7 +44,7 @@ const THERMAL_VOLTAGE_V = (1.380649e-23 * 300) / 1.602176634e-19;
  * for recombination-dominated ones, more for LEDs and junctions in series (from memory, no source).
  */
 const EMISSION_RANGE = [0.8, 4] as const;
-/** Harmonics kept when judging open and short (a knee needs a few to show its peak). */
+/** Harmonics counted when judging open and short (a knee spreads its signal over several). */
 const LOW_PASS_HARMONICS = 12;
 /** Differences in residual under this fraction of full scale mean nothing to a technician. */
 const RESIDUAL_FLOOR = 0.001;
@@ -117,12 +117,12 @@ export function analyse(curve: CanonicalCurve): Analysis {
 	const i0 = mean(cn);
 	const warnings: string[] = [];
 
-	// Open and short: the peak of the curve's first harmonics (which averages the noise away) against
-	// a level the remaining noise cannot reach.
-	const peakI = peakAbs(lowPass(cn, sin, cos, LOW_PASS_HARMONICS));
-	const peakV = peakAbs(lowPass(vn, sin, cos, LOW_PASS_HARMONICS));
-	const lowPassNoise = sigmaPhasor * Math.sqrt(LOW_PASS_HARMONICS + 0.5);
-	const openLevel = Math.max(OPEN_SHORT_LEVEL, 4 * lowPassNoise);
+	// Open and short: the amplitude the curve's first harmonics carry beyond their share of the
+	// noise, against a level the remaining noise cannot reach.
+	const noisePower = LOW_PASS_HARMONICS * 2 * sigmaPhasor * sigmaPhasor;
+	const peakI = Math.sqrt(Math.max(0, harmonicPower(cn, sin, cos, 1, LOW_PASS_HARMONICS) - noisePower));
+	const peakV = Math.sqrt(Math.max(0, harmonicPower(vn, sin, cos, 1, LOW_PASS_HARMONICS) - noisePower));
+	const openLevel = Math.max(OPEN_SHORT_LEVEL, 5 * sigmaPhasor);
 	const shortLevel = openLevel;
 	if (peakI < openLevel) {
 		const zMin = 1 / openLevel;
@@ -173,10 +173,18 @@ export function analyse(curve: CanonicalCurve): Analysis {
 	const candidates: Candidate[] = [linear];
 	// A linear fit already down at the noise leaves a junction model nothing to explain.
 	const linearExplainsAll = linear.residual <= Math.max(RESIDUAL_FLOOR, 1.15 * sigmaStatic);
+	// Junction fits read each point projected onto the source line vn + in = sin θ: the voltage and
+	// current channels' noise are independent, so the projection halves its variance, and on the
+	// phase grid the line is known exactly.
+	const onLine = projectOntoSource(vn, cn, sin);
+	// Neighbouring grid points of a sparse capture share samples, so a least-squares fit over them
+	// counts the same noise several times; the ratio of the mirror-pair noise (any spectrum) to the
+	// second-difference noise (white only) says by how much, and widens the stated uncertainties.
+	const correlation = Math.min(16, Math.max(1, sigmaStatic / sigma));
 	for (const polarity of linearExplainsAll ? [] : ([1, -1] as const)) {
-		const j = junctionCandidate(vn, cn, sin, sigmaStatic, polarity, { vs, rs });
+		const j = junctionCandidate(vn, cn, onLine, sin, sigmaStatic / Math.SQRT2, polarity, { vs, rs, correlation });
 		if (j) candidates.push(j);
-		const z = zenerCandidate(vn, cn, sin, sigmaStatic, polarity, { vs, rs });
+		const z = zenerCandidate(vn, cn, onLine, sin, sigmaStatic / Math.SQRT2, polarity, { vs, rs, correlation });
 		if (z) candidates.push(z);
 	}
 
@@ -344,24 +352,25 @@ function linearCandidate(
 function junctionCandidate(
 	vn: number[],
 	cn: number[],
+	fit: { v: number[]; i: number[] },
 	sin: Float64Array,
 	sigma: number,
 	p: 1 | -1,
-	{ vs, rs }: { vs: number; rs: number }
+	{ vs, rs, correlation }: { vs: number; rs: number; correlation: number }
 ): Candidate | undefined {
 	const n = vn.length;
 	let svv = 0;
 	let svi = 0;
 	for (let k = 0; k < n; k++) {
 		if (p * sin[k] < 0) {
-			svv += vn[k] * vn[k];
-			svi += vn[k] * cn[k];
+			svv += fit.v[k] * fit.v[k];
+			svi += fit.v[k] * fit.i[k];
 		}
 	}
 	const gFit = svv > 0 ? svi / svv : 0;
 	const g = Math.max(0, gFit);
-	const dg = svv > 0 ? sigma / Math.sqrt(svv) : Infinity;
-	const forward = fitBranch(vn, cn, sin, sigma, p, g, vs);
+	const dg = svv > 0 ? (sigma * correlation) / Math.sqrt(svv) : Infinity;
+	const forward = fitBranch(fit.v, fit.i, sin, sigma, p, g, vs, correlation);
 	if (!forward) return undefined;
 	const residual = rmsResidual(vn, cn, (k) => modelPoint(sin[k], p, g, forward, undefined));
 
@@ -400,13 +409,14 @@ function junctionCandidate(
 function zenerCandidate(
 	vn: number[],
 	cn: number[],
+	fit: { v: number[]; i: number[] },
 	sin: Float64Array,
 	sigma: number,
 	p: 1 | -1,
-	{ vs }: { vs: number; rs: number }
+	{ vs, correlation }: { vs: number; rs: number; correlation: number }
 ): Candidate | undefined {
-	const forward = fitBranch(vn, cn, sin, sigma, p, 0, vs);
-	const reverse = fitBranch(vn, cn, sin, sigma, -p as 1 | -1, 0, vs);
+	const forward = fitBranch(fit.v, fit.i, sin, sigma, p, 0, vs, correlation);
+	const reverse = fitBranch(fit.v, fit.i, sin, sigma, -p as 1 | -1, 0, vs, correlation);
 	if (!forward || !reverse) return undefined;
 	const kf = kneeOf(forward, vs);
 	const kr = kneeOf(reverse, vs);
@@ -454,7 +464,8 @@ function fitBranch(
 	sigma: number,
 	p: 1 | -1,
 	g: number,
-	vs: number
+	vs: number,
+	correlation: number
 ): Branch | undefined {
 	const xs: number[] = [];
 	const ys: number[] = [];
@@ -478,7 +489,8 @@ function fitBranch(
 
 	const make = (a: number, b: number, c: number, cov: number[][]): Branch => {
 		const lnIs = b > 1e-12 ? -a / b : 0;
-		return { a, b, c, cov, peak, lnIs, isat: Math.exp(lnIs) };
+		const scaled = cov.map((row) => row.map((x) => x * correlation * correlation));
+		return { a, b, c, cov: scaled, peak, lnIs, isat: Math.exp(lnIs) };
 	};
 	const free = leastSquares([ones, logs, ys], xs);
 	if (free) {
@@ -725,6 +737,18 @@ function harmonicNoise(
 	return count ? Math.sqrt(acc / count) : 0;
 }
 
+/** Each point moved onto the line v + i = sin θ (orthogonal projection in the normalised plane). */
+function projectOntoSource(vn: number[], cn: number[], sin: Float64Array): { v: number[]; i: number[] } {
+	const v = new Array<number>(vn.length);
+	const i = new Array<number>(vn.length);
+	for (let k = 0; k < vn.length; k++) {
+		const miss = (sin[k] - vn[k] - cn[k]) / 2;
+		v[k] = vn[k] + miss;
+		i[k] = cn[k] + miss;
+	}
+	return { v, i };
+}
+
 /** Noise per point from the mirror pairs θ ↔ π − θ (same source voltage): RMS difference / √2. */
 function mirrorNoise(vn: number[], cn: number[]): number {
 	const n = vn.length;
@@ -751,33 +775,23 @@ function rmsResidual(vn: number[], cn: number[], model: (k: number) => [number, 
 	return Math.sqrt(s / (2 * vn.length));
 }
 
-/** The curve through harmonic `h` only (a Fourier low-pass on the periodic grid). */
-function lowPass(x: number[], sin: Float64Array, cos: Float64Array, h: number): Float64Array {
+/** Σ|Xh|² over harmonics lo…hi (Xh the amplitude phasor): the squared amplitude they carry. */
+function harmonicPower(x: number[], sin: Float64Array, cos: Float64Array, lo: number, hi: number): number {
 	const n = x.length;
-	const out = new Float64Array(n).fill(mean(x));
-	for (let m = 1; m <= h; m++) {
+	let acc = 0;
+	for (let h = lo; h <= hi && h < n / 2; h++) {
 		let re = 0;
 		let im = 0;
 		for (let k = 0; k < n; k++) {
-			const idx = (m * k) % n;
+			const idx = (h * k) % n;
 			re += x[k] * cos[idx];
 			im += x[k] * sin[idx];
 		}
-		re *= 2 / n;
-		im *= 2 / n;
-		for (let k = 0; k < n; k++) {
-			const idx = (m * k) % n;
-			out[k] += re * cos[idx] + im * sin[idx];
-		}
+		acc += ((2 * re) / n) ** 2 + ((2 * im) / n) ** 2;
 	}
-	return out;
+	return acc;
 }
 
-function peakAbs(x: ArrayLike<number>): number {
-	let m = 0;
-	for (let k = 0; k < x.length; k++) m = Math.max(m, Math.abs(x[k]));
-	return m;
-}
 
 function clamp01(x: number): number {
 	return Math.min(0.99, Math.max(0.01, x));
