@@ -127,6 +127,21 @@ describe('parseCapture: two-column V-I files', () => {
 		expectClose(p.samples.v, V);
 	});
 
+	it('reads UTF-16 exports and single-byte µ (Windows-1252)', () => {
+		const text = ['V,I (µA)', ...lines((k) => `${V[k]},${I[k] * 1e6}`)].join('\r\n');
+		const utf16 = new Uint8Array(2 + text.length * 2);
+		utf16[0] = 0xff;
+		utf16[1] = 0xfe;
+		for (let k = 0; k < text.length; k++) {
+			utf16[2 + 2 * k] = text.charCodeAt(k) & 0xff;
+			utf16[3 + 2 * k] = text.charCodeAt(k) >> 8;
+		}
+		expectClose(parseCapture(utf16).samples.i, I);
+		// Windows-1252 encodes µ as the single byte 0xB5 (and ASCII as itself).
+		const latin = Uint8Array.from(text, (ch) => ch.charCodeAt(0));
+		expectClose(parseCapture(latin).samples.i, I);
+	});
+
 	it('reads a quoted header (RFC 4180)', () => {
 		const text = ['"Voltage, V","Current, mA"', ...lines((k) => `${V[k]},${I[k] * 1e3}`)].join('\n');
 		const p = parseCapture(text);
@@ -355,6 +370,8 @@ describe('parseCapture: bad input', () => {
 		rows[40] = 'NaN,0.001';
 		expectError(() => parseCapture(rows.join('\n')), 'not_finite', 41);
 		rows[40] = '1.5,-Infinity';
+		expectError(() => parseCapture(rows.join('\n')), 'not_finite', 41);
+		rows[40] = '1.5,1e999';
 		expectError(() => parseCapture(rows.join('\n')), 'not_finite', 41);
 		rows[40] = '1.5;inf';
 		expectError(() => parseCapture(rows.join('\n').replace(/,/g, ';')), 'not_finite', 41);

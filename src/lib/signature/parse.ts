@@ -247,9 +247,21 @@ function decode(input: string | Uint8Array): string {
 		return input;
 	}
 	if (input.byteLength > MAX_BYTES) throw tooLarge(input.byteLength);
+	// Windows "Unicode" exports are UTF-16 with a byte-order mark.
+	if (input[0] === 0xff && input[1] === 0xfe) return new TextDecoder('utf-16le').decode(input);
+	if (input[0] === 0xfe && input[1] === 0xff) return new TextDecoder('utf-16be').decode(input);
 	const head = input.subarray(0, 8192);
 	if (head.includes(0)) throw binary();
-	return new TextDecoder('utf-8', { fatal: false }).decode(input);
+	const text = new TextDecoder('utf-8', { fatal: false }).decode(input);
+	// Not UTF-8 (e.g. "µA" written as the single byte 0xB5): read it as Windows-1252 instead.
+	if (text.includes('\ufffd')) {
+		try {
+			return new TextDecoder('windows-1252').decode(input);
+		} catch {
+			return text;
+		}
+	}
+	return text;
 }
 
 function tooLarge(bytes: number): SignatureError {
@@ -520,7 +532,9 @@ class BodyScanner {
 		else if (exp < 0 && exp >= -22) x = mant / POW10[-exp];
 		else {
 			const slice = s.slice(start, p);
-			return Number(this.decimalComma ? slice.replace(',', '.') : slice);
+			x = Number(this.decimalComma ? slice.replace(',', '.') : slice);
+			// Out of range (1e400): the slow path reports it with its line.
+			return Number.isFinite(x) ? x : NaN;
 		}
 		return negative ? -x : x;
 	}
