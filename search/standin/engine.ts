@@ -170,7 +170,9 @@ export function validateSettingsPatch(patch: unknown): Partial<Settings> {
 // ---------------------------------------------------------------- text processing
 
 /** Lower case, accents removed: "Électrolytique" and "electrolytique" are one word. */
-export const normalise = (s: string): string => s.normalize('NFKD').replace(/\p{M}/gu, '').toLowerCase();
+export const normalise = (s: string): string =>
+	// Most text is ASCII: skip the Unicode decomposition for it (indexing calls this for every word).
+	/^[\x00-\x7f]*$/.test(s) ? s.toLowerCase() : s.normalize('NFKD').replace(/\p{M}/gu, '').toLowerCase();
 
 /** Words are runs of letters and digits; everything else separates ("e-cap" is "e" + "cap"). */
 export const splitWords = (s: string): string[] => s.split(/[^\p{L}\p{N}]+/u).filter(Boolean);
@@ -204,13 +206,15 @@ export interface Task {
 // ---------------------------------------------------------------- one index
 
 const DOCUMENT_ID = /^[A-Za-z0-9_-]{1,511}$/;
+const NO_TERMS: ReadonlySet<string> = new Set();
 
 interface Hit {
 	id: string;
+	doc: Doc;
 	seq: number;
 	words: number;
 	score: number;
-	terms: Set<string>;
+	terms: ReadonlySet<string>;
 }
 
 export interface SearchRequest {
@@ -342,7 +346,8 @@ export class StandinIndex {
 			staged.push([id, doc]);
 		}
 		this.primaryKey = key;
-		const mini = this.mini;
+		// Keep the full-text index current on every write, so no search pays for building it.
+		const mini = this.mini ?? this.index();
 		for (const [id, doc] of staged) {
 			const existing = this.docs.get(id);
 			const next = merge && existing ? { ...existing.doc, ...doc } : { ...doc };
@@ -491,10 +496,12 @@ export class StandinIndex {
 			const results: SearchResult[] = mini.search(query, { boost, fields });
 			for (const r of results) {
 				const id = r.id as string;
-				const hit = hits.get(id) ?? { id, seq: this.docs.get(id)?.seq ?? 0, words: 0, score: 0, terms: new Set<string>() };
+				const stored = this.docs.get(id);
+				if (!stored) continue;
+				const hit = hits.get(id) ?? { id, doc: stored.doc, seq: stored.seq, words: 0, score: 0, terms: new Set<string>() };
 				hit.words++;
 				hit.score += r.score;
-				for (const t of r.terms) hit.terms.add(t);
+				for (const t of r.terms) (hit.terms as Set<string>).add(t);
 				hits.set(id, hit);
 			}
 		});
@@ -544,14 +551,15 @@ export class StandinIndex {
 		const placeholder = splitWords(q).length === 0;
 		let hits: Hit[];
 		if (placeholder) {
-			hits = [...this.docs].map(([id, { seq }]) => ({ id, seq, words: 0, score: 0, terms: new Set<string>() }));
+			hits = [];
+			for (const [id, { seq, doc }] of this.docs) if (matchesFilter(filter, doc)) hits.push({ id, doc, seq, words: 0, score: 0, terms: NO_TERMS });
 		} else {
 			const matched = this.matchText(q, !/\s$/.test(q));
 			const groups = this.queryGroups(q).length;
 			hits = [...matched.values()];
 			if (strategy === 'all') hits = hits.filter((h) => h.words === groups);
+			hits = hits.filter((h) => matchesFilter(filter, h.doc));
 		}
-		hits = hits.filter((h) => matchesFilter(filter, this.docs.get(h.id)!.doc));
 
 		const facetNames = facets.includes('*') ? this.settings.filterableAttributes : facets;
 		const facetDistribution = facetNames.length ? this.facetDistribution(hits, facetNames) : undefined;
@@ -568,8 +576,7 @@ export class StandinIndex {
 		const post = req.highlightPostTag ?? '</em>';
 		const result: Record<string, unknown> = {
 			hits: page.map((h) => {
-				const doc = this.docs.get(h.id)!.doc;
-				const shown = this.project(doc, retrieve);
+				const shown = this.project(h.doc, retrieve);
 				if (!highlight?.length) return shown;
 				const formatted: Doc = {};
 				for (const [k, v] of Object.entries(shown)) {
@@ -608,7 +615,7 @@ export class StandinIndex {
 		const steps: ((a: Hit, b: Hit) => number)[] = [];
 		let relevanceAdded = false;
 		const byField = (attr: string, desc: boolean) => (a: Hit, b: Hit) =>
-			compareValues(this.docs.get(a.id)!.doc[attr], this.docs.get(b.id)!.doc[attr], desc);
+			compareValues(a.doc[attr], b.doc[attr], desc);
 		for (const rule of this.settings.rankingRules) {
 			if (rule === 'words') steps.push((a, b) => b.words - a.words);
 			else if (rule === 'sort') for (const s of sort) steps.push(byField(s.attr, s.desc));
@@ -637,7 +644,7 @@ export class StandinIndex {
 		for (const name of names) {
 			const counts = new Map<string, { label: string; count: number }>();
 			for (const h of hits) {
-				const raw = this.docs.get(h.id)!.doc[name];
+				const raw = h.doc[name];
 				const values = raw === undefined || raw === null ? [] : Array.isArray(raw) ? raw : [raw];
 				const seen = new Set<string>();
 				for (const v of values) {
@@ -666,7 +673,7 @@ export class StandinIndex {
 			let min = Infinity;
 			let max = -Infinity;
 			for (const h of hits) {
-				const raw = this.docs.get(h.id)!.doc[name];
+				const raw = h.doc[name];
 				for (const v of Array.isArray(raw) ? raw : [raw]) {
 					if (typeof v !== 'number') continue;
 					min = Math.min(min, v);
@@ -691,7 +698,7 @@ function compareValues(a: unknown, b: unknown, desc: boolean): number {
 }
 
 /** Wraps every word of `value` that matched (exactly, by prefix or with a typo) in the tags. */
-function highlightValue(value: unknown, terms: Set<string>, pre: string, post: string): unknown {
+function highlightValue(value: unknown, terms: ReadonlySet<string>, pre: string, post: string): unknown {
 	if (typeof value === 'string') {
 		if (!terms.size) return value;
 		return value.replace(/[\p{L}\p{N}]+/gu, (word) => (terms.has(normalise(word)) ? `${pre}${word}${post}` : word));

@@ -287,7 +287,7 @@ const asNumber = (s: string): number | undefined => {
 
 /** The engine compares filter strings case-insensitively and accent-insensitively. */
 export function normaliseFilterValue(s: string): string {
-	return s.normalize('NFKD').replace(/\p{M}/gu, '').toLowerCase();
+	return /^[\x00-\x7f]*$/.test(s) ? s.toLowerCase() : s.normalize('NFKD').replace(/\p{M}/gu, '').toLowerCase();
 }
 
 function equals(docValue: unknown, filterValue: string): boolean {

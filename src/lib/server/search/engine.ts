@@ -76,7 +76,10 @@ async function call<T>(engine: SearchEngine, what: string, fn: () => Promise<T>)
 			}
 			throw new SearchEngineError(`Search ${what} failed: ${e.message} (${code}).`, code);
 		}
-		if (e instanceof MeilisearchRequestError || e instanceof MeilisearchRequestTimeOutError) {
+		if (e instanceof MeilisearchRequestTimeOutError || (e instanceof MeilisearchRequestError && e.cause instanceof MeilisearchRequestTimeOutError)) {
+			throw new SearchUnavailableError(`The search service at ${engine.url} did not answer in time (${what}).`);
+		}
+		if (e instanceof MeilisearchRequestError) {
 			throw new SearchUnavailableError(
 				`The search service at ${engine.url} is not reachable (${what}). Start it, or unset MEILISEARCH_URL to use the local stand-in.`
 			);
