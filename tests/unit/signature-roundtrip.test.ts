@@ -9,6 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { analyse, KNEE_CURRENT_FRACTION } from '../../src/lib/signature/analyse';
 import { canonicalise } from '../../src/lib/signature/canonical';
 import { shapeDistance } from '../../src/lib/signature/compare';
+import { analyseCapture } from '../../src/lib/signature/index';
 import { parseCapture } from '../../src/lib/signature/parse';
 import { simulate, THERMAL_VOLTAGE } from '../../src/lib/signature/simulate';
 import type {
@@ -20,7 +21,7 @@ import type {
 	SignatureClass,
 	TestConditions
 } from '../../src/lib/signature/types';
-import { randomStyle, seededRandom, synthesiseCapture, uniform } from '../support/captures';
+import { randomStyle, seededRandom, synthesiseCapture, synthesiseSamples, uniform, writeCapture } from '../support/captures';
 
 interface Case {
 	name: string;
@@ -201,5 +202,28 @@ describe('round trip: simulate → capture file → parse → canonical → anal
 			const d = shapeDistance(curve, clean);
 			expect(d, `${label}: distance to the clean curve`).toBeLessThan(gap);
 		}
+	});
+});
+
+describe('analyseCapture', () => {
+	it('runs parse → units → canonical → analyse in one call and gathers the warnings', () => {
+		// 2.2 kΩ at 10 V · 1 kΩ: Ohm's law gives the resistance back within 2 %.
+		const fine = simulate({ kind: 'resistor', ohms: 2200 }, c60, { points: 4096 });
+		const s = synthesiseSamples(fine, { rng: seededRandom(31), noise: 0.01, samplesPerPeriod: 700, periods: 3.6 });
+		const file = writeCapture(s, {
+			format: 'vi-csv', delimiter: '\t', header: null, voltageUnit: 'V', currentUnit: 'mA',
+			withTime: false, currentFirst: false, crlf: true, bom: false, comments: true, decimalComma: false
+		});
+		// The file says nothing of its units and none are entered: mA is inferred (and said so).
+		const r = analyseCapture(file.text, c60);
+		expect(r.capture.format).toBe('vi-csv');
+		expect(r.curve.periods).toBe(3);
+		expect(r.analysis.class).toBe('resistive');
+		expect(Math.abs(numeric(r.analysis.parameters.resistanceOhm) / 2200 - 1)).toBeLessThan(0.02);
+		expect(r.warnings.some((w) => /does not state its units/.test(w))).toBe(true);
+		// With the unit entered, the same result and no guess.
+		const told = analyseCapture(file.text, c60, file.parseOptions);
+		expect(told.warnings.some((w) => /does not state its units/.test(w))).toBe(false);
+		expect(numeric(told.analysis.parameters.resistanceOhm)).toBeCloseTo(numeric(r.analysis.parameters.resistanceOhm), 6);
 	});
 });
