@@ -5,6 +5,8 @@
 
 import type { ColumnType } from "kysely";
 
+export type EntryStatus = "archived" | "draft" | "in_review" | "published";
+
 export type Generated<T> = T extends ColumnType<infer S, infer I, infer U>
   ? ColumnType<S, I | undefined, U>
   : ColumnType<T, T | undefined, T>;
@@ -61,6 +63,19 @@ export interface AppMeta {
   value: Json;
 }
 
+export interface Attachment {
+  bytes: number;
+  contentType: string;
+  createdAt: Generated<Timestamp>;
+  createdBy: string | null;
+  data: Buffer;
+  entryId: string;
+  fileName: string;
+  id: Generated<string>;
+  orgId: string;
+  sha256: string;
+}
+
 export interface AuditLog {
   action: string;
   actorId: string | null;
@@ -69,6 +84,47 @@ export interface AuditLog {
   id: Generated<Int8>;
   orgId: string;
   subject: string | null;
+}
+
+export interface Entry {
+  assembly: Generated<string>;
+  authorId: string | null;
+  body: Generated<string>;
+  cause: Generated<string>;
+  componentKind: string;
+  createdAt: Generated<Timestamp>;
+  deletedAt: Timestamp | null;
+  deletedBy: string | null;
+  fix: Generated<string>;
+  helpedCount: Generated<number>;
+  id: Generated<string>;
+  orgId: string;
+  package: Generated<string>;
+  partNumber: Generated<string>;
+  publishedAt: Timestamp | null;
+  reviewComment: string | null;
+  reviewerId: string | null;
+  status: Generated<EntryStatus>;
+  submittedAt: Timestamp | null;
+  symptom: string;
+  symptomDetail: Generated<string>;
+  tags: Generated<string[]>;
+  testPoint: Generated<string>;
+  title: string;
+  updatedAt: Generated<Timestamp>;
+  version: Generated<number>;
+  viewCount: Generated<number>;
+}
+
+export interface EntryRevision {
+  entryId: string;
+  id: Generated<string>;
+  note: Generated<string>;
+  orgId: string;
+  savedAt: Generated<Timestamp>;
+  savedBy: string | null;
+  snapshot: Json;
+  version: number;
 }
 
 export interface Invitation {
@@ -127,6 +183,35 @@ export interface SignInRequest {
   scope: string;
 }
 
+export interface Trace {
+  analysis: Json;
+  canonical: Json;
+  class: string;
+  createdAt: Generated<Timestamp>;
+  createdBy: string | null;
+  descriptor: number[];
+  entryId: string | null;
+  fileBytes: number | null;
+  fileData: Buffer | null;
+  fileFormat: string | null;
+  fileName: string | null;
+  fileSha256: string | null;
+  frequencyHz: number;
+  id: Generated<string>;
+  label: Generated<string>;
+  model: Json | null;
+  orgId: string;
+  periods: number;
+  residual: number;
+  role: string;
+  sampleCount: number;
+  senseOhm: number | null;
+  simulated: Generated<boolean>;
+  sourcePeakV: number;
+  sourceResistanceOhm: number;
+  warnings: Generated<string[]>;
+}
+
 export interface User {
   createdAt: Generated<Timestamp>;
   email: string;
@@ -146,13 +231,17 @@ export interface DB {
   Account: Account;
   apiToken: ApiToken;
   appMeta: AppMeta;
+  attachment: Attachment;
   auditLog: AuditLog;
+  entry: Entry;
+  entryRevision: EntryRevision;
   invitation: Invitation;
   membership: Membership;
   organisation: Organisation;
   searchOutbox: SearchOutbox;
   Session: Session;
   signInRequest: SignInRequest;
+  trace: Trace;
   User: User;
   VerificationToken: VerificationToken;
 }

@@ -1,0 +1,107 @@
+import type { Kysely } from 'kysely';
+import type { EntryFields, EntryTransition, EntryUpdate } from '../../schemas/entries';
+import type { MemberContext } from '../auth/member';
+import type { Database } from '../db/connect';
+import { enqueueSearchUpdate } from '../search/outbox';
+import {
+	type Entry,
+	findEntry,
+	insertEntry,
+	insertRevision,
+	lockEntry,
+	setEntryStatus,
+	snapshotOf,
+	softDeleteEntry,
+	updateEntryFields
+} from './queries';
+import { checkTransition, mayEdit, readerFor, type TransitionCheck } from './rules';
+
+/**
+ * Units of work on entries. Each opens one transaction: the entry change, its revision and the
+ * search-outbox row commit together or not at all.
+ */
+
+export async function createEntry(db: Kysely<Database>, member: MemberContext, fields: EntryFields): Promise<Entry> {
+	return db.transaction().execute(async (trx) => {
+		const id = await insertEntry(trx, member.orgId, member.userId, fields);
+		await insertRevision(trx, member.orgId, id, 1, member.userId, snapshotOf(fields), 'Created');
+		await enqueueSearchUpdate(trx, member.orgId, id, 'upsert');
+		const entry = await findEntry(trx, member.orgId, id, readerFor(member));
+		if (!entry) throw new Error('entry vanished inside its own transaction');
+		return entry;
+	});
+}
+
+export type UpdateResult =
+	| { kind: 'saved'; entry: Entry }
+	| { kind: 'not_found' }
+	| { kind: 'forbidden' }
+	/** Someone saved a newer version first: nothing was written; both versions are returned. */
+	| { kind: 'conflict'; current: Entry; yours: EntryFields };
+
+export async function updateEntry(
+	db: Kysely<Database>,
+	member: MemberContext,
+	id: string,
+	update: EntryUpdate,
+	note = ''
+): Promise<UpdateResult> {
+	return db.transaction().execute(async (trx): Promise<UpdateResult> => {
+		const reader = readerFor(member);
+		const locked = await lockEntry(trx, member.orgId, id);
+		if (!locked || !(await findEntry(trx, member.orgId, id, reader))) return { kind: 'not_found' };
+		const { version, ...patch } = update;
+		const fields: EntryFields = { ...snapshotOf(locked), ...stripUndefined(patch) };
+		if (locked.version !== version) return { kind: 'conflict', current: locked, yours: fields };
+		if (!mayEdit(member, locked)) return { kind: 'forbidden' };
+		const newVersion = await updateEntryFields(trx, member.orgId, id, version, fields);
+		if (newVersion === undefined) return { kind: 'conflict', current: locked, yours: fields };
+		await insertRevision(trx, member.orgId, id, newVersion, member.userId, fields, note);
+		await enqueueSearchUpdate(trx, member.orgId, id, 'upsert');
+		const entry = await findEntry(trx, member.orgId, id, reader);
+		return entry ? { kind: 'saved', entry } : { kind: 'not_found' };
+	});
+}
+
+function stripUndefined<T extends object>(o: T): Partial<T> {
+	return Object.fromEntries(Object.entries(o).filter(([, v]) => v !== undefined)) as Partial<T>;
+}
+
+export type TransitionResult = { kind: 'done'; entry: Entry } | { kind: 'not_found' } | Extract<TransitionCheck, { ok: false }>;
+
+export async function transitionEntry(
+	db: Kysely<Database>,
+	member: MemberContext,
+	id: string,
+	transition: EntryTransition,
+	comment: string
+): Promise<TransitionResult> {
+	return db.transaction().execute(async (trx): Promise<TransitionResult> => {
+		const reader = readerFor(member);
+		const locked = await lockEntry(trx, member.orgId, id);
+		if (!locked || !(await findEntry(trx, member.orgId, id, reader))) return { kind: 'not_found' };
+		const check = checkTransition(member, locked, transition, comment);
+		if (!check.ok) return check;
+		const now = new Date();
+		await setEntryStatus(trx, member.orgId, id, {
+			status: check.to,
+			...(transition === 'submit' ? { submittedAt: now, reviewComment: null } : {}),
+			...(transition === 'publish' ? { publishedAt: locked.publishedAt ?? now, reviewerId: member.userId, reviewComment: null } : {}),
+			...(transition === 'return' ? { reviewerId: member.userId, reviewComment: comment.trim() } : {})
+		});
+		await enqueueSearchUpdate(trx, member.orgId, id, 'upsert');
+		const entry = await findEntry(trx, member.orgId, id, reader);
+		return entry ? { kind: 'done', entry } : { kind: 'not_found' };
+	});
+}
+
+/** Soft-deletes (admins only, checked by the caller's guard); restorable for RESTORE_WINDOW_DAYS. */
+export const RESTORE_WINDOW_DAYS = 30;
+
+export async function deleteEntry(db: Kysely<Database>, member: MemberContext, id: string): Promise<boolean> {
+	return db.transaction().execute(async (trx) => {
+		const deleted = await softDeleteEntry(trx, member.orgId, id, member.userId);
+		if (deleted) await enqueueSearchUpdate(trx, member.orgId, id, 'delete');
+		return deleted;
+	});
+}

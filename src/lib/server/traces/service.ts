@@ -1,0 +1,254 @@
+import { createHash } from 'node:crypto';
+import type { Kysely, Transaction } from 'kysely';
+import type { TraceRole, TraceUpload } from '../../schemas/entries';
+import { analyse } from '../../signature/analyse';
+import { analyseCapture, descriptor, MAX_BYTES } from '../../signature/index';
+import { simulate } from '../../signature/simulate';
+import type { Analysis, CanonicalCurve, DeviceModel, TestConditions } from '../../signature/types';
+import type { Database } from '../db/connect';
+
+type Db = Kysely<Database> | Transaction<Database>;
+
+/** What the server derived from a capture, before it is stored. The server is the authority. */
+export interface ProcessedTrace {
+	conditions: TestConditions;
+	senseOhm: number | null;
+	format: string | null;
+	sampleCount: number;
+	curve: CanonicalCurve;
+	analysis: Analysis;
+	descriptor: number[];
+	warnings: string[];
+}
+
+/**
+ * Parses, canonicalises and analyses an uploaded capture with the same engine the browser used
+ * for its preview. Throws SignatureError (a message for the technician) on bad input.
+ */
+export function processCapture(bytes: Uint8Array, upload: TraceUpload): ProcessedTrace {
+	const conditions = pickConditions(upload);
+	const result = analyseCapture(bytes, conditions, {
+		format: upload.format,
+		voltageUnit: upload.voltageUnit,
+		currentUnit: upload.currentUnit,
+		senseOhm: upload.senseOhm,
+		swapChannels: upload.swapChannels,
+		invertVoltage: upload.invertVoltage,
+		invertCurrent: upload.invertCurrent
+	});
+	return {
+		conditions,
+		senseOhm: upload.senseOhm ?? null,
+		format: result.capture.format,
+		sampleCount: result.capture.count,
+		curve: result.curve,
+		analysis: result.analysis,
+		descriptor: Array.from(descriptor(result.curve)),
+		warnings: result.warnings
+	};
+}
+
+/** A simulated known-good reference: the predicted curve of a model at these conditions. */
+export function processSimulation(model: DeviceModel, conditions: TestConditions): ProcessedTrace {
+	const curve = simulate(model, conditions);
+	const analysis = analyse(curve);
+	return {
+		conditions,
+		senseOhm: null,
+		format: null,
+		sampleCount: curve.v.length,
+		curve,
+		analysis,
+		descriptor: Array.from(descriptor(curve)),
+		warnings: analysis.warnings
+	};
+}
+
+function pickConditions(u: TestConditions): TestConditions {
+	return { sourcePeakV: u.sourcePeakV, sourceResistanceOhm: u.sourceResistanceOhm, frequencyHz: u.frequencyHz };
+}
+
+export const MAX_TRACE_BYTES = MAX_BYTES;
+
+export interface StoredTrace {
+	id: string;
+	entryId: string | null;
+	role: TraceRole;
+	label: string;
+	conditions: TestConditions;
+	senseOhm: number | null;
+	simulated: boolean;
+	fileName: string | null;
+	fileFormat: string | null;
+	fileBytes: number | null;
+	sampleCount: number;
+	periods: number;
+	class: string;
+	residual: number;
+	analysis: Analysis;
+	warnings: string[];
+	createdAt: Date;
+}
+
+/** Stores a processed trace with its original file (kept for provenance). Call inside the writer's transaction. */
+export async function insertTrace(
+	trx: Db,
+	orgId: string,
+	input: {
+		entryId: string | null;
+		role: TraceRole;
+		label: string;
+		createdBy: string;
+		processed: ProcessedTrace;
+		file?: { name: string; bytes: Uint8Array };
+		model?: DeviceModel;
+	}
+): Promise<string> {
+	const p = input.processed;
+	const row = await trx
+		.insertInto('trace')
+		.values({
+			orgId,
+			entryId: input.entryId,
+			role: input.role,
+			label: input.label,
+			sourcePeakV: p.conditions.sourcePeakV,
+			sourceResistanceOhm: p.conditions.sourceResistanceOhm,
+			frequencyHz: p.conditions.frequencyHz,
+			senseOhm: p.senseOhm,
+			simulated: p.curve.simulated,
+			model: input.model ? JSON.stringify(input.model) : null,
+			fileName: input.file?.name ?? null,
+			fileFormat: p.format,
+			fileBytes: input.file?.bytes.byteLength ?? null,
+			fileSha256: input.file ? createHash('sha256').update(input.file.bytes).digest('hex') : null,
+			fileData: input.file ? Buffer.from(input.file.bytes) : null,
+			sampleCount: p.sampleCount,
+			periods: p.curve.periods,
+			canonical: JSON.stringify({ v: p.curve.v, i: p.curve.i, periodSpread: p.curve.periodSpread }),
+			descriptor: p.descriptor,
+			analysis: JSON.stringify(p.analysis),
+			class: p.analysis.class,
+			residual: p.analysis.residual,
+			warnings: p.warnings,
+			createdBy: input.createdBy
+		})
+		.returning('id')
+		.executeTakeFirstOrThrow();
+	return row.id;
+}
+
+function toStoredTrace(r: {
+	id: string;
+	entryId: string | null;
+	role: string;
+	label: string;
+	sourcePeakV: number;
+	sourceResistanceOhm: number;
+	frequencyHz: number;
+	senseOhm: number | null;
+	simulated: boolean;
+	fileName: string | null;
+	fileFormat: string | null;
+	fileBytes: number | null;
+	sampleCount: number;
+	periods: number;
+	class: string;
+	residual: number;
+	analysis: unknown;
+	warnings: string[];
+	createdAt: Date;
+}): StoredTrace {
+	return {
+		id: r.id,
+		entryId: r.entryId,
+		role: r.role as TraceRole,
+		label: r.label,
+		conditions: { sourcePeakV: r.sourcePeakV, sourceResistanceOhm: r.sourceResistanceOhm, frequencyHz: r.frequencyHz },
+		senseOhm: r.senseOhm,
+		simulated: r.simulated,
+		fileName: r.fileName,
+		fileFormat: r.fileFormat,
+		fileBytes: r.fileBytes,
+		sampleCount: r.sampleCount,
+		periods: r.periods,
+		class: r.class,
+		residual: r.residual,
+		analysis: r.analysis as Analysis,
+		warnings: r.warnings,
+		createdAt: r.createdAt
+	};
+}
+
+const TRACE_COLUMNS = [
+	'id',
+	'entryId',
+	'role',
+	'label',
+	'sourcePeakV',
+	'sourceResistanceOhm',
+	'frequencyHz',
+	'senseOhm',
+	'simulated',
+	'fileName',
+	'fileFormat',
+	'fileBytes',
+	'sampleCount',
+	'periods',
+	'class',
+	'residual',
+	'analysis',
+	'warnings',
+	'createdAt'
+] as const;
+
+export async function listEntryTraces(db: Db, orgId: string, entryId: string): Promise<StoredTrace[]> {
+	const rows = await db
+		.selectFrom('trace')
+		.select(TRACE_COLUMNS)
+		.where('orgId', '=', orgId)
+		.where('entryId', '=', entryId)
+		.orderBy('createdAt')
+		.limit(100)
+		.execute();
+	return rows.map(toStoredTrace);
+}
+
+export async function findTrace(db: Db, orgId: string, id: string): Promise<StoredTrace | undefined> {
+	const r = await db.selectFrom('trace').select(TRACE_COLUMNS).where('orgId', '=', orgId).where('id', '=', id).executeTakeFirst();
+	return r ? toStoredTrace(r) : undefined;
+}
+
+/** The trace's canonical curve (SI units, canonical phase grid). */
+export async function findTraceCurve(db: Db, orgId: string, id: string): Promise<CanonicalCurve | undefined> {
+	const r = await db
+		.selectFrom('trace')
+		.select(['canonical', 'sourcePeakV', 'sourceResistanceOhm', 'frequencyHz', 'periods', 'simulated'])
+		.where('orgId', '=', orgId)
+		.where('id', '=', id)
+		.executeTakeFirst();
+	if (!r) return undefined;
+	const c = r.canonical as { v: number[]; i: number[]; periodSpread: number | null };
+	const conditions = { sourcePeakV: r.sourcePeakV, sourceResistanceOhm: r.sourceResistanceOhm, frequencyHz: r.frequencyHz };
+	const isc = conditions.sourcePeakV / conditions.sourceResistanceOhm;
+	return {
+		conditions,
+		v: c.v,
+		i: c.i,
+		vn: c.v.map((x) => x / conditions.sourcePeakV),
+		in: c.i.map((x) => x / isc),
+		periods: r.periods,
+		periodSpread: c.periodSpread,
+		simulated: r.simulated
+	};
+}
+
+/** The original uploaded file, for download. */
+export async function findTraceFile(db: Db, orgId: string, id: string): Promise<{ name: string; data: Buffer } | undefined> {
+	const r = await db.selectFrom('trace').select(['fileName', 'fileData']).where('orgId', '=', orgId).where('id', '=', id).executeTakeFirst();
+	return r?.fileData && r.fileName ? { name: r.fileName, data: r.fileData } : undefined;
+}
+
+export async function deleteTrace(db: Db, orgId: string, id: string): Promise<{ entryId: string | null } | undefined> {
+	return db.deleteFrom('trace').where('orgId', '=', orgId).where('id', '=', id).returning('entryId').executeTakeFirst();
+}
