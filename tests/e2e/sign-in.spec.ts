@@ -1,4 +1,5 @@
 import { expect, test } from '@playwright/test';
+import pg from 'pg';
 import { latestSignInLink, requestSignInLink, signIn, signOut } from './support/sign-in';
 
 // A demo address from src/lib/server/demo/seed.ts (DEMO_USERS), seeded into the e2e database.
@@ -65,6 +66,24 @@ test('sign in through the local mailbox, use the user menu, rename yourself and 
 	await page.goto(link);
 	await expect(page).toHaveURL(/\/login\/error\?error=Verification/);
 	await expect(page.getByRole('heading', { name: 'This sign-in link no longer works' })).toBeVisible();
+});
+
+test('an expired link leads to a clear page, not a sign-in', async ({ page }) => {
+	const email = `late.${Date.now()}@lab.example`;
+	await requestSignInLink(page, email);
+	const link = await latestSignInLink(page, email);
+	// Age the token in the database the app uses, as if the 30 minutes had passed.
+	const client = new pg.Client({ connectionString: process.env.DATABASE_URL });
+	await client.connect();
+	try {
+		const res = await client.query(`update "VerificationToken" set expires = now() - interval '1 minute' where identifier = $1`, [email]);
+		expect(res.rowCount).toBe(1);
+	} finally {
+		await client.end();
+	}
+	await page.goto(link);
+	await expect(page.getByRole('heading', { name: 'This sign-in link no longer works' })).toBeVisible();
+	await expect(page.getByTestId('shell-account').getByRole('link', { name: 'Sign in' })).toBeVisible();
 });
 
 test('an invalid address is refused beside the field', async ({ page }) => {
