@@ -508,6 +508,19 @@ export class StandinIndex {
 		return hits;
 	}
 
+	/**
+	 * What highlighting needs besides the matched words: the words searched for whole (typed words
+	 * and their synonyms) and the word searched as a prefix. A word found only by prefix gets just
+	 * that prefix marked, as the engine does ("<em>capac</em>itor").
+	 */
+	private highlightPlan(q: string, prefixLast: boolean): HighlightPlan {
+		const groups = this.queryGroups(q);
+		const whole = new Set(groups.flatMap((g) => g.alternatives.flat()));
+		const lastGroup = groups[groups.length - 1];
+		const prefix = prefixLast && lastGroup ? lastGroup.original[lastGroup.original.length - 1] : undefined;
+		return { whole, prefix };
+	}
+
 	search(body: unknown): Record<string, unknown> {
 		const started = performance.now();
 		if (body === null || typeof body !== 'object' || Array.isArray(body)) {
@@ -549,6 +562,7 @@ export class StandinIndex {
 		const sort = this.parseSort(req.sort);
 
 		const placeholder = splitWords(q).length === 0;
+		const marks = placeholder ? undefined : this.highlightPlan(q, !/\s$/.test(q));
 		let hits: Hit[];
 		if (placeholder) {
 			hits = [];
@@ -581,7 +595,7 @@ export class StandinIndex {
 				const formatted: Doc = {};
 				for (const [k, v] of Object.entries(shown)) {
 					const on = highlight.includes('*') || highlight.includes(k);
-					formatted[k] = on ? highlightValue(v, h.terms, pre, post) : v;
+					formatted[k] = on && marks ? highlightValue(v, h.terms, marks, pre, post) : v;
 				}
 				return { ...shown, _formatted: formatted };
 			}),
@@ -697,13 +711,29 @@ function compareValues(a: unknown, b: unknown, desc: boolean): number {
 	return desc ? -d : d;
 }
 
-/** Wraps every word of `value` that matched (exactly, by prefix or with a typo) in the tags. */
-function highlightValue(value: unknown, terms: ReadonlySet<string>, pre: string, post: string): unknown {
+interface HighlightPlan {
+	whole: ReadonlySet<string>;
+	prefix: string | undefined;
+}
+
+function highlightWord(word: string, terms: ReadonlySet<string>, plan: HighlightPlan, pre: string, post: string): string {
+	const n = normalise(word);
+	if (!terms.has(n)) return word;
+	const { prefix } = plan;
+	// Found through the prefix only, and the normalised form lines up with the original letters.
+	if (prefix && n !== prefix && n.startsWith(prefix) && !plan.whole.has(n) && n.length === word.length) {
+		return `${pre}${word.slice(0, prefix.length)}${post}${word.slice(prefix.length)}`;
+	}
+	return `${pre}${word}${post}`;
+}
+
+/** Wraps every word of `value` that matched (exactly, with a typo, or by prefix) in the tags. */
+function highlightValue(value: unknown, terms: ReadonlySet<string>, plan: HighlightPlan, pre: string, post: string): unknown {
 	if (typeof value === 'string') {
 		if (!terms.size) return value;
-		return value.replace(/[\p{L}\p{N}]+/gu, (word) => (terms.has(normalise(word)) ? `${pre}${word}${post}` : word));
+		return value.replace(/[\p{L}\p{N}]+/gu, (word) => highlightWord(word, terms, plan, pre, post));
 	}
-	if (Array.isArray(value)) return value.map((v) => highlightValue(v, terms, pre, post));
+	if (Array.isArray(value)) return value.map((v) => highlightValue(v, terms, plan, pre, post));
 	return value;
 }
 

@@ -380,6 +380,14 @@ describe('local stand-in specifics', () => {
 		expect(typo.hits).toEqual([]);
 	});
 
+	// The engine marks only the typed part of a word found by prefix (from memory of its responses).
+	it('marks only the typed prefix of a word found by prefix, and whole words otherwise', async () => {
+		const r = await engine.client.index('specifics').search('leaky capac', { attributesToHighlight: ['title'], filter: 'orgId = "' + ORG_A + '"' });
+		expect(r.hits[0]._formatted?.title).toBe('<em>Leaky</em> electrolytic <em>capac</em>itor on the gate driver');
+		const synonym = await engine.client.index('specifics').search('cap ', { attributesToHighlight: ['title'], filter: 'orgId = "' + ORG_A + '"' });
+		expect(synonym.hits.map((h) => h._formatted?.title)).toContain('Leaky electrolytic <em>capacitor</em> on the gate driver');
+	});
+
 	it('answers unknown routes with a proper error body', async () => {
 		const res = await fetch(`${s.url}/keys`);
 		expect(res.status).toBe(404);
