@@ -270,7 +270,10 @@ describe.each(targets)('search contract: $name', (target) => {
 			['a synonym: "shorted" for "dead short"', 'shorted', 'bulk-short'],
 			['a synonym: "open circuit" for "no continuity"', 'open circuit reset', 'open-reset'],
 			['a synonym: "leakage" for "leaky"', 'leakage on the gate driver', 'leaky-cap'],
-			['stop words ignored', 'the knee of the zener', 'soft-zener']
+			['stop words ignored', 'the knee of the zener', 'soft-zener'],
+			['a junior’s words: "leaky cap on the gate driver"', 'leaky cap on the gate driver', 'leaky-cap'],
+			['a junior’s words: "knee too soft"', 'knee too soft', 'soft-zener'],
+			['a part number', '1N4733', 'soft-zener']
 		])('finds %s', async (_what, q, expected) => {
 			const r = await search(q, { filter: `orgId = "${ORG_A}"` });
 			expect(r.hits.slice(0, 3).map((h) => h.id)).toContain(expected);

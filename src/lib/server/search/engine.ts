@@ -323,7 +323,8 @@ export async function searchEntries(engine: SearchEngine, search: EntrySearch): 
 	const offset = Math.max(0, Math.trunc(search.offset ?? 0));
 	const facets = [...new Set(search.facets ?? [])].filter((f) => (FACETS as readonly string[]).includes(f));
 	const response = await call(engine, 'query', () =>
-		engine.client.index<EntryDocument>(engine.index).search(search.q?.trim() ?? '', {
+		// The engine reads only the first words of a query anyway; a bound keeps requests small.
+		engine.client.index<EntryDocument>(engine.index).search((search.q ?? '').trim().slice(0, 500), {
 			filter: entryFilter(search),
 			facets,
 			sort: [...SORTS[search.sort ?? 'relevance']],
