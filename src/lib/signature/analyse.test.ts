@@ -177,6 +177,17 @@ describe('analyse: junctions and zeners', () => {
 		});
 	});
 
+	// Shockley equation again: the knee must not depend on how finely the period is sampled.
+	it('reads the same knee from a 4096-point or an odd-length grid', () => {
+		const c = at(10, 1000, 60);
+		const expected = shockleyV((KNEE_CURRENT_FRACTION * 10) / 1000, 1e-14, 1, 0);
+		for (const points of [4096, 101]) {
+			const a = analyse(simulate({ kind: 'diode' }, c, { points }));
+			expect(a.class).toBe('junction');
+			expect(Math.abs(value(a.parameters.kneeV) - expected)).toBeLessThan(0.005);
+		}
+	});
+
 	// Ohm's law on the reverse branch: a diode in parallel with R conducts V/R backwards.
 	it('reads a resistor across a junction as its leakage', () => {
 		const a = analyse(

@@ -89,9 +89,11 @@ interface Branch {
  * `breakdownV` its magnitude. Both knees use `KNEE_CURRENT_FRACTION` of Vs/Rs.
  */
 export function analyse(curve: CanonicalCurve): Analysis {
-	const n = curve.vn.length;
-	const vn = curve.vn;
-	const cn = curve.in;
+	// The mirror and half-period pairings below need an even grid of some size.
+	const regular = curve.vn.length >= 64 && curve.vn.length % 4 === 0;
+	const vn = regular ? curve.vn : resampleGrid(curve.vn, 256);
+	const cn = regular ? curve.in : resampleGrid(curve.in, 256);
+	const n = vn.length;
 	const { sourcePeakV: vs, sourceResistanceOhm: rs, frequencyHz: f } = curve.conditions;
 	const isc = vs / rs;
 	const omega = 2 * Math.PI * f;
@@ -773,6 +775,17 @@ function rmsResidual(vn: number[], cn: number[], model: (k: number) => [number, 
 		s += (vn[k] - mv) ** 2 + (cn[k] - mi) ** 2;
 	}
 	return Math.sqrt(s / (2 * vn.length));
+}
+
+/** Periodic linear interpolation of a curve onto m points of the phase grid. */
+function resampleGrid(x: number[], m: number): number[] {
+	const n = x.length;
+	return Array.from({ length: m }, (_, k) => {
+		const pos = (k * n) / m;
+		const j = Math.floor(pos);
+		const frac = pos - j;
+		return x[j % n] * (1 - frac) + x[(j + 1) % n] * frac;
+	});
 }
 
 /** Σ|Xh|² over harmonics lo…hi (Xh the amplitude phasor): the squared amplitude they carry. */

@@ -41,9 +41,10 @@ export const DESCRIPTOR_LENGTH = 1 + 2 * DESCRIPTOR_HARMONICS + 3;
 export const CONDITION_TOLERANCE = { sourcePeakV: 0.05, sourceResistanceOhm: 0.05, frequencyHz: 0.05 };
 
 /**
- * Distance at which similarity falls to 50. 0.08 of full scale RMS: bench noise between two
- * captures of one part stays near 0.01 (similarity ≈ 97), 2.2 kΩ against 2.7 kΩ at Rs = 1 kΩ is
- * ≈ 0.03 (≈ 81), a resistor against a junction ≈ 0.3 (≈ 12).
+ * Distance at which similarity falls to 50. 0.08 of full scale RMS: two bench captures of one
+ * part stay within about 0.01 of each other (similarity ≈ 96), 2.2 kΩ against 2.7 kΩ at
+ * Rs = 1 kΩ is 0.030 (≈ 81), a resistor against a junction ≈ 0.3 (≈ 12), an open against a
+ * short 0.71 (≈ 4).
  */
 export const SIMILARITY_HALF_DISTANCE = 0.08;
 
