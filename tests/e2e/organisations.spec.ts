@@ -5,6 +5,8 @@ import { latestSignInLink, signIn } from './support/sign-in';
 const ADMIN = 'ilse.admin@fernhollow.example';
 
 test('create an organisation, invite a viewer who accepts and meets the limits, then promote them', async ({ page, browser }) => {
+	// Two people and two sign-ins in one story: more steps than the default allowance covers on a busy machine.
+	test.setTimeout(120_000);
 	const suffix = Date.now().toString(36);
 	const name = `Bench Three ${suffix}`;
 	const slug = `bench-three-${suffix}`;
@@ -103,4 +105,34 @@ test('someone else’s organisation is a plain 404, like one that does not exist
 	await expect(page.getByRole('heading', { level: 1 })).toHaveText('There is nothing at this address');
 	const demo = await page.goto('/o/fernhollow/members');
 	expect(demo?.status()).toBe(403);
+});
+
+test('an API token is shown once, works for its organisation, and stops at revocation', async ({ page, playwright, baseURL }) => {
+	await signIn(page, 'pim.contributor@fernhollow.example', { redirectTo: '/profile' });
+	const section = page.getByTestId('api-tokens');
+	await section.getByLabel('Token name').fill('Bench PC 2');
+	// A contributor may hand a token their own role or below, never more.
+	await expect(section.getByLabel('Role').locator('option')).toHaveText(['Viewer', 'Contributor']);
+	await section.getByLabel('Role').selectOption('viewer');
+	await section.getByRole('button', { name: 'Create token' }).click();
+	const shown = section.getByTestId('new-token');
+	await expect(shown).toHaveValue(/^clt_/);
+	const token = await shown.inputValue();
+
+	const api = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { authorization: `Bearer ${token}` } });
+	const me = await api.get('/api/v1/me');
+	expect(me.status()).toBe(200);
+	expect(await me.json()).toMatchObject({ authenticatedBy: 'token', organisations: [{ slug: 'fernhollow', role: 'viewer' }] });
+
+	// After a reload the secret is gone for good; the row shows its last use.
+	await page.reload();
+	await expect(section.getByTestId('new-token')).toHaveCount(0);
+	const row = section.getByTestId('token-row').filter({ hasText: 'Bench PC 2' });
+	await expect(row).toContainText('last used');
+	await row.getByRole('button', { name: 'Revoke token Bench PC 2' }).click();
+	await expect(row).toContainText('revoked');
+	const after = await api.get('/api/v1/me');
+	expect(after.status()).toBe(401);
+	expect(await after.json()).toMatchObject({ error: { code: 'invalid_token' } });
+	await api.dispose();
 });
