@@ -20,8 +20,8 @@
  * Headings are shifted down one level (`#` → h2, clamped at h6): the entry page owns the h1.
  */
 import { Marked, type Tokens } from 'marked';
-import markedPackage from 'marked/package.json';
 import { createHash } from 'node:crypto';
+import { createRequire } from 'node:module';
 import { StringLru } from './lru';
 import { currentPurifier, purifierVersion } from './purifier';
 import { allowedImageSrc, classifyHref } from './url-policy';
@@ -37,7 +37,10 @@ export interface MarkdownOptions {
 
 /** Bump when the rendering rules change, so cached output made under the old rules is not reused. */
 const RULES_VERSION = 1;
-const VERSION_KEY = `rules ${RULES_VERSION}; marked ${markedPackage.version}; dompurify ${purifierVersion}`;
+// Read with require: a JSON import left external by the server build would need an import
+// attribute under Node's ESM loader.
+const markedVersion = (createRequire(import.meta.url)('marked/package.json') as { version: string }).version;
+const VERSION_KEY = `rules ${RULES_VERSION}; marked ${markedVersion}; dompurify ${purifierVersion}`;
 
 const BLOCK_TAGS = [
 	'h2',
