@@ -13,6 +13,13 @@ test('signed out, the top bar offers "Sign in" and the profile sends you to the 
 	await expect(page.getByRole('heading', { name: 'Sign in', level: 1 })).toBeVisible();
 });
 
+test('signed out, an API route answers 401 with the stable error code instead of a redirect', async ({ request }) => {
+	const res = await request.get('/api/v1/me', { maxRedirects: 0 });
+	expect(res.status()).toBe(401);
+	expect(res.headers()['content-type']).toContain('application/json');
+	expect((await res.json()).error).toMatchObject({ code: 'unauthenticated' });
+});
+
 test('sign in through the local mailbox, use the user menu, rename yourself and sign out', async ({ page }) => {
 	await requestSignInLink(page, AUTHOR, '/profile');
 	await expect(page.getByText(AUTHOR)).toBeVisible();
