@@ -386,6 +386,8 @@ interface Junction {
 interface Circuit {
 	/** Unknowns: node voltages, then inductor branch currents. */
 	size: number;
+	/** Number of node-voltage unknowns (the first ones). */
+	nodeCount: number;
 	probe: number;
 	/** Linear part of the Jacobian, size × size, row-major. */
 	gLin: Float64Array;
@@ -508,7 +510,19 @@ function buildCircuit(net: RawNetlist, conditions: TestConditions, h: number): C
 	});
 	for (const j of junctions) stampConductance(gLin, size, j.a, j.k, GMIN);
 
-	return { size, probe, gLin, m, selA, selB, qScale, hist, junctions, sourceConductance };
+	return {
+		size,
+		nodeCount: nodes,
+		probe,
+		gLin,
+		m,
+		selA,
+		selB,
+		qScale,
+		hist,
+		junctions,
+		sourceConductance
+	};
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -828,10 +842,36 @@ class Integrator {
 			return;
 		}
 
+		const start = Float64Array.from(this.vj);
+		if (this.newton(e, z, 0, MAX_STEP_ITERATIONS)) return;
+		// Newton failed from the last step's solution: approach this one by shunt stepping (SPICE's
+		// gmin stepping), solving first with a conductance from every node to the reference ten
+		// times the source's, then with a tenth of it, and so on down to none.
+		this.copyInto(this.vj, start);
+		for (let shunt = 10 * c.sourceConductance; shunt > 1e-13 * c.sourceConductance; shunt /= 10) {
+			if (!this.newton(e, z, shunt, MAX_STEP_ITERATIONS)) break;
+		}
+		if (this.newton(e, z, 0, MAX_STEP_ITERATIONS)) return;
+		throw new SignatureError(
+			'no_convergence',
+			'The simulator could not solve a time step of this device model (the diode equations did not converge).'
+		);
+	}
+
+	/**
+	 * Newton–Raphson on one time step, from the junction voltages in this.vj, with an extra
+	 * conductance `shunt` from every node to the reference. Returns whether it converged; the
+	 * solution is in this.y and the Jacobian at it stays factored in this.jac.
+	 */
+	private newton(e: number, z: Float64Array, shunt: number, maxIterations: number): boolean {
+		const { c } = this;
+		const n = c.size;
+		const base = this.rhs;
 		const tolV = 1e-7 * THERMAL_VOLTAGE;
-		for (let it = 0; it < MAX_STEP_ITERATIONS; it++) {
+		for (let it = 0; it < maxIterations; it++) {
 			this.stats.newtonIterations++;
 			this.copyInto(this.jac, c.gLin);
+			if (shunt > 0) for (let r = 0; r < c.nodeCount; r++) this.jac[r * n + r] += shunt;
 			this.fillBase(e, z);
 			this.copyInto(this.rhsLin, base);
 			for (let d = 0; d < c.junctions.length; d++) {
@@ -868,12 +908,11 @@ class Integrator {
 			this.copyInto(this.y, base);
 			// Well-conditioned steps converge by the junction tests within a few iterations; the
 			// KCL test is the fallback for the ill-conditioned ones.
-			if (converged || (it >= KCL_FALLBACK_AFTER && this.kclHolds(base))) return;
+			if (converged || (shunt === 0 && it >= KCL_FALLBACK_AFTER && this.kclHolds(base))) {
+				return true;
+			}
 		}
-		throw new SignatureError(
-			'no_convergence',
-			'The simulator could not solve a time step of this device model (the diode equations did not converge).'
-		);
+		return false;
 	}
 
 	/** The state's transition over the step just solved, from the factored Jacobian, into stepMatrix. */
