@@ -273,6 +273,13 @@ describe('parseCapture: oscilloscope exports', () => {
 		expectClose(parseCapture(noTime).samples.t!, V.map((_, k) => k * 1e-5));
 	});
 
+	it('takes a channel in amperes (a current probe) as the current itself', () => {
+		const text = ['Time (s),CH1 (V),CH2 (mA)', ...lines((k) => `${k * 1e-5},${V[k]},${I[k] * 1e3}`)].join('\n');
+		const p = parseCapture(text);
+		expect(p.format).toBe('scope-csv');
+		expectClose(p.samples.i, I);
+	});
+
 	it('refuses a scope export without the sense resistance', () => {
 		const text = ['Record length,64', 'Time (s),CH1 (V),CH2 (V)', ...scopeRows(',')].join('\n');
 		expectError(() => parseCapture(text), 'missing_sense_resistance');

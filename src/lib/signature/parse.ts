@@ -424,6 +424,8 @@ interface Layout {
 	scaleB: number;
 	/** Whether the header or the options stated the unit of the voltage and of the current. */
 	stated: { voltage: boolean; current: boolean };
+	/** scope-csv: the second channel is already a current (a current probe), in amperes. */
+	currentDirect: boolean;
 	warnings: string[];
 }
 
@@ -804,7 +806,7 @@ function parseDelimited(text: string, options: ParseOptions): ParsedCapture {
 	let senseOhm = options.senseOhm ?? found.senseOhm;
 	const v = new Array<number>(count);
 	const i = new Array<number>(count);
-	if (layout.format === 'scope-csv') {
+	if (layout.format === 'scope-csv' && !layout.currentDirect) {
 		if (senseOhm === undefined || !(senseOhm > 0)) {
 			throw new SignatureError(
 				'missing_sense_resistance',
@@ -818,7 +820,7 @@ function parseDelimited(text: string, options: ParseOptions): ParsedCapture {
 		}
 	} else senseOhm = 1;
 	const ka = layout.scaleA;
-	const kb = layout.scaleB / (layout.format === 'scope-csv' ? senseOhm! : 1);
+	const kb = layout.scaleB / (layout.format === 'scope-csv' && !layout.currentDirect ? senseOhm! : 1);
 	for (let k = 0; k < count; k++) {
 		v[k] = av[k] * ka;
 		i[k] = bv[k] * kb;
@@ -963,6 +965,9 @@ function chooseLayout(
 		scaleA = scaleOf(a, 'voltage', vDefault);
 		scaleB = scaleOf(b, 'voltage', vDefault);
 	}
+	// A scope channel in amperes ("CH2 (A)", a current probe) is the current itself: no sense resistor.
+	const currentDirect = format === 'scope-csv' && columns?.[b]?.unitKind === 'current';
+	if (currentDirect) scaleB = columns![b].scale!;
 	const scaleT = time === null ? 1 : scaleOf(time, 'time', 1);
 	const statedBy = (k: number, kind: UnitKind, option: unknown) =>
 		option !== undefined || (columns?.[k]?.scale !== null && columns?.[k]?.unitKind === kind);
@@ -971,9 +976,9 @@ function chooseLayout(
 		current:
 			format === 'vi-csv'
 				? statedBy(b, 'current', options.currentUnit)
-				: statedBy(b, 'voltage', options.voltageUnit)
+				: currentDirect || statedBy(b, 'voltage', options.voltageUnit)
 	};
-	return { format, time, a, b, scaleT, scaleA, scaleB, stated, warnings };
+	return { format, time, a, b, scaleT, scaleA, scaleB, stated, currentDirect, warnings };
 }
 
 // ---------------------------------------------------------------------------------------------
