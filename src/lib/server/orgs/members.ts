@@ -1,4 +1,5 @@
-import type { Transaction } from 'kysely';
+import type { Kysely, Transaction } from 'kysely';
+import { authTables } from '../auth/tables';
 import type { Database } from '../db/connect';
 import { revokeTokensOfMember } from '../auth/api-tokens';
 import type { Role } from '../auth/permissions';
@@ -11,6 +12,12 @@ export const LAST_ADMIN_MESSAGE =
 export type MemberChangeResult =
 	| { ok: true }
 	| { ok: false; code: 'not_found' | 'last_admin'; message: string };
+
+/** The member's address as it is now, kept in audit details so the log reads without lookups. */
+async function emailOf(trx: Transaction<Database>, userId: string): Promise<string | null> {
+	const row = await authTables(trx as unknown as Kysely<Database>).selectFrom('User').select('email').where('id', '=', userId).executeTakeFirst();
+	return row?.email ?? null;
+}
 
 /**
  * Creates an organisation with its creator as its first admin. Undefined when the slug is taken;
@@ -42,7 +49,7 @@ export async function changeMemberRole(
 		actorId: input.actorId,
 		action: 'member.role_changed',
 		subject: `user:${input.userId}`,
-		details: { from: current.role, to: input.role }
+		details: { member: await emailOf(trx, input.userId), from: current.role, to: input.role }
 	});
 	return { ok: true };
 }
@@ -62,7 +69,7 @@ export async function removeMember(
 		actorId: input.actorId,
 		action: 'member.removed',
 		subject: `user:${input.userId}`,
-		details: { role: current.role, tokensRevoked: revoked }
+		details: { member: await emailOf(trx, input.userId), role: current.role, tokensRevoked: revoked }
 	});
 	return { ok: true };
 }
