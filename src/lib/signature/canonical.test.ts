@@ -100,7 +100,8 @@ describe('canonicalise', () => {
 		[50, 20],
 		[100_000, 1.3],
 		[20_000, 5.5],
-		[333, 9.9]
+		[333, 9.9],
+		[400, 2]
 	])('finds the period from the data alone at %i samples a period × %f periods', (spp, periods) => {
 		const c = { sourcePeakV: 5, sourceResistanceOhm: 470, frequencyHz: 1000 };
 		const rng = seededRandom(spp + periods);

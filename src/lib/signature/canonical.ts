@@ -397,7 +397,8 @@ export function canonicalise(
 	const scale = N / TWO_PI;
 	// Step 4 bookkeeping: whole periods on a coarse grid.
 	const firstWhole = Math.ceil(theta0 / TWO_PI - 1e-9);
-	const lastWhole = Math.floor(theta1 / TWO_PI + 1e-9) - 1;
+	// The record ends one sample interval after its last sample (as `cycles` counts it).
+	const lastWhole = Math.floor(theta0 / TWO_PI + cycles + 1e-9) - 1;
 	const whole = Math.max(0, lastWhole - firstWhole + 1);
 	const spp = n / cycles;
 	let coarse = 4;
