@@ -1097,11 +1097,12 @@ function shoot(c: Circuit, integ: Integrator, vs: number): Float64Array {
 		// discharged only by leakage) that the state residual cannot tell: then the definition
 		// itself decides, two successive periods agreeing.
 		if (res.max <= STATE_TOLERANCE || stalls >= 2) {
-			const next = integ.period(cur.zEnd, true);
+			const next = integ.period(cur.zEnd, false);
 			if (maxDifference(cur.v, next.v) <= PERIOD_AGREEMENT * vs) return next.v;
 			if (!budgetLeft()) throw notConverged();
+			// Rare: simulate that period again, this time with the monodromy Newton needs.
 			z = cur.zEnd;
-			cur = next;
+			cur = integ.period(z, true);
 			res = stateResidual(c, z, cur.zEnd, r);
 			if (res.max <= STATE_TOLERANCE) continue;
 		}
