@@ -55,15 +55,15 @@ describe('entry lifecycle', () => {
 
 	it('goes draft → in review → returned with a comment → in review → published → archived', async () => {
 		const { id } = await createEntry(db, a.contributor, fields());
-		expect(await transitionEntry(db, a.contributor, id, 'publish', '')).toEqual({ ok: false, reason: 'forbidden' });
+		expect(await transitionEntry(db, a.contributor, id, 'publish', '')).toEqual({ kind: 'refused', reason: 'forbidden' });
 		expect(await transitionEntry(db, a.contributor, id, 'submit', '')).toMatchObject({ kind: 'done', entry: { status: 'in_review' } });
-		expect(await transitionEntry(db, a.author, id, 'return', '  ')).toEqual({ ok: false, reason: 'comment_required' });
+		expect(await transitionEntry(db, a.author, id, 'return', '  ')).toEqual({ kind: 'refused', reason: 'comment_required' });
 		const returned = await transitionEntry(db, a.author, id, 'return', 'Add the known-good trace from U12.');
 		expect(returned).toMatchObject({ kind: 'done', entry: { status: 'draft', reviewComment: 'Add the known-good trace from U12.' } });
 		await transitionEntry(db, a.contributor, id, 'submit', '');
 		const published = await transitionEntry(db, a.author, id, 'publish', '');
 		expect(published).toMatchObject({ kind: 'done', entry: { status: 'published', reviewerId: a.author.userId } });
-		expect(await transitionEntry(db, a.author, id, 'submit', '')).toEqual({ ok: false, reason: 'wrong_status' });
+		expect(await transitionEntry(db, a.author, id, 'submit', '')).toEqual({ kind: 'refused', reason: 'wrong_status' });
 		expect(await transitionEntry(db, a.author, id, 'archive', '')).toMatchObject({ kind: 'done', entry: { status: 'archived' } });
 	});
 

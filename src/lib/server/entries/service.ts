@@ -67,7 +67,10 @@ function stripUndefined<T extends object>(o: T): Partial<T> {
 	return Object.fromEntries(Object.entries(o).filter(([, v]) => v !== undefined)) as Partial<T>;
 }
 
-export type TransitionResult = { kind: 'done'; entry: Entry } | { kind: 'not_found' } | Extract<TransitionCheck, { ok: false }>;
+export type TransitionResult =
+	| { kind: 'done'; entry: Entry }
+	| { kind: 'not_found' }
+	| { kind: 'refused'; reason: Extract<TransitionCheck, { ok: false }>['reason'] };
 
 export async function transitionEntry(
 	db: Kysely<Database>,
@@ -81,7 +84,7 @@ export async function transitionEntry(
 		const locked = await lockEntry(trx, member.orgId, id);
 		if (!locked || !(await findEntry(trx, member.orgId, id, reader))) return { kind: 'not_found' };
 		const check = checkTransition(member, locked, transition, comment);
-		if (!check.ok) return check;
+		if (!check.ok) return { kind: 'refused', reason: check.reason };
 		const now = new Date();
 		await setEntryStatus(trx, member.orgId, id, {
 			status: check.to,
