@@ -19,25 +19,32 @@
  *   Nint = points.
  * - Diodes: Shockley junction I = Is·(exp(V/(n·Vt)) − 1) at 27 °C (300.15 K, as SPICE's default
  *   nominal temperature; Vt = k·T/q ≈ 25.864 mV), a series resistance, and optional reverse
- *   breakdown modelled as a second exponential −Ibv·(exp(−(V + Bv)/(n·Vt)) − exp(−Bv/(n·Vt))), which
- *   carries exactly Ibv at V = −Bv, grows e-fold every n·Vt beyond it and is zero at V = 0. It uses
- *   the forward emission coefficient n. A conductance GMIN = 1 pS sits across every junction (as
- *   in SPICE) and 1 fS from every internal node to the reference so no node floats. Each time step is solved by Newton–Raphson
- *   with SPICE-style junction voltage limiting (pnjlim) on the forward and the breakdown exponential,
- *   until the junction voltages the equations were linearised at agree with the solution's.
+ *   breakdown modelled as a second exponential −Ibv·(exp(−(V + Bv)/(n·Vt)) − exp(−Bv/(n·Vt))),
+ *   which carries exactly Ibv at V = −Bv, grows e-fold every n·Vt beyond it and is zero at V = 0.
+ *   It uses the forward emission coefficient n. A conductance GMIN = 1 pS sits across every
+ *   junction (as in SPICE) and 1 fS from every internal node to the reference so no node floats.
+ * - Each time step is solved by Newton–Raphson with SPICE-style junction voltage limiting
+ *   (pnjlim) on the forward and the breakdown exponential, until the junction voltages the
+ *   equations were linearised at agree with the solution's (or the linearised junction currents
+ *   with the true ones). Ill-conditioned steps fall back to a KCL residual test with a rounding
+ *   floor, and a step that will not solve is approached by shunt (gmin) stepping.
  * - Periodic steady state by shooting: the state after one period, P(z), of z = (the capacitor
  *   voltages and inductor currents at the last two steps, as BDF2 needs), is found with Newton's
  *   method on P(z) − z = 0. The monodromy matrix ∂P/∂z is propagated exactly alongside the
- *   integration from each step's factored Jacobian. A linear network converges in one Newton step
- *   whatever its time constants (1000 µF behind 3.3 kΩ at 60 Hz decays over ≈ 200 periods, here it
- *   costs three), a diode network in a few; steps that do not reduce the residual are halved, and a
- *   plain period of transient is the last resort. Newton starts from rest, not from the phasor
- *   solution: for linear networks shooting is exact from any start, so a phasor start would only
- *   save work for diode networks, where it is not a better guess than rest.
+ *   integration from each step's factored Jacobian (for a linear network, once, by repeated
+ *   squaring). A linear network converges in one Newton step whatever its time constants
+ *   (1000 µF behind 3.3 kΩ at 60 Hz decays over ≈ 200 periods, here it costs three), a diode
+ *   network in a few; steps that do not reduce the residual are halved, and a plain period of
+ *   transient is the last resort. Newton starts from rest, not from the phasor solution: for
+ *   linear networks shooting is exact from any start, so a phasor start would only save work for
+ *   diode networks, where it is not a better guess than rest.
  * - Convergence: the state residual is below STATE_TOLERANCE (capacitor volts in units of Vs,
  *   inductor amperes in units of Vs/Rs), and then one more period is simulated and must agree with
- *   the previous one within PERIOD_AGREEMENT of full scale at every sample. The returned curve is
- *   that last period.
+ *   the previous one within PERIOD_AGREEMENT of full scale at every sample. When Newton has
+ *   stalled twice (a capacitor charged through a diode and discharged only by leakage changes too
+ *   slowly for the state residual to resolve), that agreement of two successive periods alone
+ *   decides. The returned curve is the last period. After MAX_PERIODS periods the simulation
+ *   gives up with SignatureError('no_convergence').
  */
 import { z } from 'zod';
 import { testConditions } from './conditions';
