@@ -173,8 +173,15 @@ export function analyse(curve: CanonicalCurve): Analysis {
 
 	const linear = linearCandidate(vn, cn, sin, cos, v0, i0, v1, i1, sigmaPhasor, { rs, omega });
 	const candidates: Candidate[] = [linear];
-	// A linear fit already down at the noise leaves a junction model nothing to explain.
-	const linearExplainsAll = linear.residual <= Math.max(RESIDUAL_FLOOR, 1.15 * sigmaStatic);
+	// Skip the junction models when they cannot win: a curve whose mirror points (θ, π − θ)
+	// disagree is beyond any part without memory, since for each such pair a static model's
+	// residual is at least half their difference, so its RMS is at least mirror/√2.
+	const mirror = mirrorNoise(vn, cn);
+	const score = (c: Candidate) =>
+		Math.max(c.residual, RESIDUAL_FLOOR) * (1 + PARAMETER_PENALTY * c.complexity);
+	const linearExplainsAll =
+		linear.residual <= RESIDUAL_FLOOR ||
+		score(linear) < Math.max(RESIDUAL_FLOOR, (0.95 * mirror) / Math.SQRT2) * (1 + 4 * PARAMETER_PENALTY);
 	// Junction fits read each point projected onto the source line vn + in = sin θ: the voltage and
 	// current channels' noise are independent, so the projection halves its variance, and on the
 	// phase grid the line is known exactly.
@@ -190,8 +197,6 @@ export function analyse(curve: CanonicalCurve): Analysis {
 		if (z) candidates.push(z);
 	}
 
-	const score = (c: Candidate) =>
-		Math.max(c.residual, RESIDUAL_FLOOR) * (1 + PARAMETER_PENALTY * c.complexity);
 	candidates.sort((a, b) => score(a) - score(b));
 	const best = candidates[0];
 	const complexLevel = Math.max(COMPLEX_RESIDUAL, 3 * sigma);
