@@ -394,12 +394,10 @@ export function canonicalise(
 	const sd = new Float64Array(N);
 	const sv = new Float64Array(N);
 	const si = new Float64Array(N);
-	const scale = N / TWO_PI;
 	// Step 4 bookkeeping: whole periods on a coarse grid.
-	const firstWhole = Math.ceil(theta0 / TWO_PI - 1e-9);
-	// The record ends one sample interval after its last sample (as `cycles` counts it).
-	const lastWhole = Math.floor(theta0 / TWO_PI + cycles + 1e-9) - 1;
-	const whole = Math.max(0, lastWhole - firstWhole + 1);
+	// Period p spans source phases θ0 + 2πp … θ0 + 2π(p + 1) from the first sample; the record
+	// ends one sample interval after its last sample (as `cycles` counts it).
+	const whole = Math.floor(cycles + 1e-9);
 	const spp = n / cycles;
 	let coarse = 4;
 	while (coarse < 64 && spp / (coarse * 2) >= 4) coarse *= 2;
@@ -421,7 +419,7 @@ export function canonicalise(
 		sv[j] += v[k];
 		si[j] += i[k];
 		if (track) {
-			const p = cyc - firstWhole;
+			const p = Math.floor((th - theta0) / TWO_PI);
 			if (p >= 0 && p < whole) {
 				const b = Math.min(coarse - 1, Math.floor(u / coarseDiv));
 				const q = p * coarse + b;
