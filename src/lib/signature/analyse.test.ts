@@ -188,6 +188,22 @@ describe('analyse: junctions and zeners', () => {
 		}
 	});
 
+	// Kirchhoff's voltage law with the Shockley equation: in series the voltages add at the same
+	// current, so two junctions double the knee and a resistor adds I·R.
+	it('adds series voltages to the knee: two junctions, or a junction and a resistor', () => {
+		const c = at(10, 1000, 60);
+		const current = (KNEE_CURRENT_FRACTION * 10) / 1000;
+		const one = shockleyV(current, 1e-14, 1, 0);
+		const two = analyse(simulate({ kind: 'series', parts: [{ kind: 'diode' }, { kind: 'diode' }] }, c));
+		expect(two.class).toBe('junction');
+		expect(Math.abs(value(two.parameters.kneeV) - 2 * one)).toBeLessThan(0.005);
+		const withR = analyse(
+			simulate({ kind: 'series', parts: [{ kind: 'diode' }, { kind: 'resistor', ohms: 1000 }] }, c)
+		);
+		expect(withR.class).toBe('junction');
+		expect(Math.abs(value(withR.parameters.kneeV) - (one + current * 1000))).toBeLessThan(0.005);
+	});
+
 	// Ohm's law on the reverse branch: a diode in parallel with R conducts V/R backwards.
 	it('reads a resistor across a junction as its leakage', () => {
 		const a = analyse(
