@@ -714,6 +714,11 @@ class Integrator {
 	private readonly yNew: Float64Array;
 	/** Junction voltages the next linearisation uses (carried across steps and periods). */
 	private readonly vj: Float64Array;
+	/** Junction voltages at the start of the step being solved, for the shunt-stepping retry. */
+	private readonly vjStart: Float64Array;
+	/** Junction currents and conductances at the current linearisation point. */
+	private readonly jI: Float64Array;
+	private readonly jG: Float64Array;
 	private readonly linear: boolean;
 	private linearFactored = false;
 	/** A linear network's monodromy matrix does not depend on the state: computed once. */
@@ -745,6 +750,9 @@ class Integrator {
 		this.y = new Float64Array(c.size);
 		this.yNew = new Float64Array(c.size);
 		this.vj = new Float64Array(c.junctions.length);
+		this.vjStart = new Float64Array(c.junctions.length);
+		this.jI = new Float64Array(c.junctions.length);
+		this.jG = new Float64Array(c.junctions.length);
 		this.linear = c.junctions.length === 0;
 		this.col = new Float64Array(c.size);
 		const m2 = 2 * c.m;
@@ -849,7 +857,8 @@ class Integrator {
 			return;
 		}
 
-		const start = Float64Array.from(this.vj);
+		const start = this.vjStart;
+		this.copyInto(start, this.vj);
 		if (this.newton(e, z, 0, MAX_STEP_ITERATIONS)) return;
 		// Newton failed from the last step's solution: approach this one by shunt stepping (SPICE's
 		// gmin stepping), solving first with a conductance from every node to the reference ten
@@ -886,6 +895,8 @@ class Integrator {
 				const vd = this.vj[d];
 				junctionCurrent(j, vd, this.jCur);
 				const g = this.jCur.g;
+				this.jI[d] = this.jCur.i;
+				this.jG[d] = g;
 				const ieq = this.jCur.i - g * vd;
 				stampConductance(this.jac, n, j.a, j.k, g);
 				if (j.a >= 0) base[j.a] -= ieq;
@@ -903,8 +914,7 @@ class Integrator {
 				const vnew = (j.a >= 0 ? base[j.a] : 0) - (j.k >= 0 ? base[j.k] : 0);
 				const vold = this.vj[d];
 				if (Math.abs(vnew - vold) > tolV + 1e-9 * Math.abs(vnew)) {
-					junctionCurrent(j, vold, this.jCur);
-					const predicted = this.jCur.i + this.jCur.g * (vnew - vold);
+					const predicted = this.jI[d] + this.jG[d] * (vnew - vold);
 					junctionCurrent(j, vnew, this.jCur);
 					if (Math.abs(this.jCur.i - predicted) > this.tolI + 1e-9 * Math.abs(this.jCur.i)) {
 						converged = false;
