@@ -561,7 +561,13 @@ function modelPoint(
 	// Newton's method kept inside a bisection bracket [lo, hi] (f(lo) ≤ 0 ≤ f(hi)).
 	let lo = 0;
 	let hi = target;
+	// Start from the branch current with the linear terms ignored, which is nearly exact below the
+	// knee, where the steep logarithm would otherwise cost Newton dozens of bisection steps.
 	let y = target * 0.5;
+	if (br.b > 1e-9) {
+		const guess = br.isat * Math.expm1(Math.min(700, target / ((1 + g) * br.b)));
+		if (guess > 0 && guess < target) y = guess;
+	}
 	for (let it = 0; it < 60; it++) {
 		const x = branchX(br, y);
 		const fy = (1 + g) * x + y - target;
