@@ -19,6 +19,8 @@ export interface EntryDocument {
 	id: string;
 	orgId: string;
 	status: string;
+	/** Who wrote it: contributors find their own drafts, nobody else's. */
+	authorId: string | null;
 	/** e.g. capacitor, diode, zener, resistor, ic-pin */
 	componentKind: string | null;
 	/** The curve class of the entry's fault trace (open, short, resistive, …). */
@@ -71,6 +73,7 @@ export const SEARCHABLE_ATTRIBUTES = [
 export const FILTERABLE_ATTRIBUTES = [
 	'orgId',
 	'status',
+	'authorId',
 	'componentKind',
 	'class',
 	'tags',

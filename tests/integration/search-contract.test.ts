@@ -23,7 +23,7 @@ import {
 	updateDocuments,
 	type SearchEngine
 } from '../../src/lib/server/search/engine';
-import { FIXTURES, ORG_A, ORG_B, entryDoc } from './search-fixtures';
+import { FIXTURES, ORG_A, ORG_B, OTHER_USER, WRITER, entryDoc } from './search-fixtures';
 
 interface Target {
 	name: string;
@@ -51,6 +51,10 @@ if (process.env.MEILISEARCH_URL) {
 		}
 	});
 }
+
+const VIEWER = { userId: OTHER_USER, seesAll: false, seesOwn: false };
+const ADMIN = { userId: OTHER_USER, seesAll: true, seesOwn: true };
+const contributor = (userId: string) => ({ userId, seesAll: false, seesOwn: true });
 
 const ids = (hits: { id: string }[] | EntryDocument[]) => hits.map((h) => h.id).sort();
 
@@ -283,12 +287,12 @@ describe.each(targets)('search contract: $name', (target) => {
 	describe('searchEntries (tenancy and roles)', () => {
 		it('never shows organisation B another organisation’s text, even when guessing its words', async () => {
 			for (const q of ['leaky electrolytic capacitor gate driver', 'zener knee', 'dead short bulk', 'open trace reset', '']) {
-				const r = await searchEntries(engine, { orgId: ORG_B, role: 'admin', q, facets: ['tags', 'assembly', 'componentKind'] });
+				const r = await searchEntries(engine, { orgId: ORG_B, reader: ADMIN, q, facets: ['tags', 'assembly', 'componentKind'] });
 				expect(r.hits.every((h) => h.document.orgId === ORG_B)).toBe(true);
 				expect(Object.keys(r.facets.tags ?? {})).not.toContain('gate-driver');
 				expect(Object.keys(r.facets.assembly ?? {})).not.toContain('PSU-200');
 			}
-			const a = await searchEntries(engine, { orgId: ORG_A, role: 'admin', q: 'marrowfield quillback' });
+			const a = await searchEntries(engine, { orgId: ORG_A, reader: ADMIN, q: 'marrowfield quillback' });
 			expect(a.hits).toEqual([]);
 			expect(a.total).toBe(0);
 		});
@@ -296,26 +300,31 @@ describe.each(targets)('search contract: $name', (target) => {
 		it('cannot be widened by a filter value that tries to break out of its quotes', async () => {
 			const r = await searchEntries(engine, {
 				orgId: ORG_B,
-				role: 'admin',
+				reader: ADMIN,
 				filters: { tags: [`x" OR orgId = "${ORG_A}`, 'x\\" OR orgId = \\"' + ORG_A] }
 			});
 			expect(r.hits).toEqual([]);
 		});
 
-		it('shows viewers published entries only, and contributors drafts too', async () => {
-			const viewer = await searchEntries(engine, { orgId: ORG_A, role: 'viewer', q: 'capacitor' });
+		it('shows viewers published entries only, contributors their own drafts too, authors everything', async () => {
+			const viewer = await searchEntries(engine, { orgId: ORG_A, reader: VIEWER, q: 'capacitor' });
 			expect(viewer.hits.map((h) => h.document.id)).not.toContain('bulk-short');
 			expect(viewer.hits.every((h) => h.document.status === 'published')).toBe(true);
-			const asked = await searchEntries(engine, { orgId: ORG_A, role: 'viewer', filters: { status: ['draft'] } });
+			const asked = await searchEntries(engine, { orgId: ORG_A, reader: VIEWER, filters: { status: ['draft'] } });
 			expect(asked.hits).toEqual([]);
-			const contributor = await searchEntries(engine, { orgId: ORG_A, role: 'contributor', q: 'capacitor' });
-			expect(contributor.hits.map((h) => h.document.id)).toContain('bulk-short');
+			const writer = await searchEntries(engine, { orgId: ORG_A, reader: contributor(WRITER), q: 'capacitor' });
+			expect(writer.hits.map((h) => h.document.id)).toContain('bulk-short');
+			const fellow = await searchEntries(engine, { orgId: ORG_A, reader: contributor(OTHER_USER), q: 'dead short bulk capacitor' });
+			expect(fellow.hits.map((h) => h.document.id)).not.toContain('bulk-short');
+			expect(fellow.hits.length).toBeGreaterThan(0);
+			const author = await searchEntries(engine, { orgId: ORG_A, reader: ADMIN, filters: { status: ['draft'] } });
+			expect(author.hits.map((h) => h.document.id)).toEqual(['bulk-short']);
 		});
 
 		it('narrows by facets, sorts by date and counts facets', async () => {
 			const r = await searchEntries(engine, {
 				orgId: ORG_A,
-				role: 'author',
+				reader: ADMIN,
 				filters: { assembly: ['PSU-200', 'CTRL-7'], componentKind: ['capacitor', 'zener'] },
 				facets: ['status', 'componentKind'],
 				sort: 'updated'
@@ -327,21 +336,21 @@ describe.each(targets)('search contract: $name', (target) => {
 
 		it('returns HTML-safe highlights: entry text is escaped, matches are marked', async () => {
 			await indexDocuments(engine, [entryDoc('html-title', { title: '<img src=x onerror=alert(1)> capacitor & co' })]);
-			const r = await searchEntries(engine, { orgId: ORG_A, role: 'viewer', q: 'capacitor' });
+			const r = await searchEntries(engine, { orgId: ORG_A, reader: VIEWER, q: 'capacitor' });
 			const hit = r.hits.find((h) => h.document.id === 'html-title');
 			expect(hit?.highlights.title).toBe('&#60;img src=x onerror=alert(1)&#62; <mark>capacitor</mark> &#38; co');
 		});
 
 		it('gives a clear error for an engine that is not there', async () => {
 			const gone = createSearchEngine({ url: 'http://127.0.0.1:1', index: uid, timeout: 2000 });
-			await expect(searchEntries(gone, { orgId: ORG_A, role: 'viewer', q: 'cap' })).rejects.toMatchObject({
+			await expect(searchEntries(gone, { orgId: ORG_A, reader: VIEWER, q: 'cap' })).rejects.toMatchObject({
 				name: 'SearchUnavailableError',
 				message: expect.stringContaining('not reachable')
 			});
 		});
 
 		it('gives a clear error when the engine refuses the request', async () => {
-			const err = await searchEntries(createSearchEngine({ url: conn.url, key: conn.key, index: `${uid}_none` }), { orgId: ORG_A, role: 'viewer' }).catch((e: unknown) => e);
+			const err = await searchEntries(createSearchEngine({ url: conn.url, key: conn.key, index: `${uid}_none` }), { orgId: ORG_A, reader: VIEWER }).catch((e: unknown) => e);
 			expect(err).toBeInstanceOf(SearchEngineError);
 			expect((err as SearchEngineError).code).toBe('index_not_found');
 		});

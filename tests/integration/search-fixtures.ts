@@ -3,6 +3,9 @@ import { popularityOf, type EntryDocument } from '../../search/settings';
 /** Invented organisations and entries for the search tests (demo-style data, no real parts makers). */
 export const ORG_A = '00000000-0000-4000-8000-00000000000a';
 export const ORG_B = '00000000-0000-4000-8000-00000000000b';
+/** The user who wrote every fixture entry, and one who wrote none. */
+export const WRITER = '00000000-0000-4000-8000-0000000000e1';
+export const OTHER_USER = '00000000-0000-4000-8000-0000000000e2';
 
 export function entryDoc(id: string, fields: Partial<EntryDocument>): EntryDocument {
 	const views = fields.views ?? 0;
@@ -11,6 +14,7 @@ export function entryDoc(id: string, fields: Partial<EntryDocument>): EntryDocum
 		id,
 		orgId: ORG_A,
 		status: 'published',
+		authorId: WRITER,
 		componentKind: null,
 		class: null,
 		tags: [],

@@ -16,7 +16,7 @@ import { validateSettingsPatch, ApiError } from '../../search/standin/engine';
 // Every attribute the settings name must exist on the document: the engine accepts unknown names
 // silently, so a typo here would quietly disable a filter or a sort.
 const SAMPLE: Record<keyof EntryDocument, true> = {
-	id: true, orgId: true, status: true, componentKind: true, class: true, tags: true, assembly: true, partNumber: true,
+	id: true, orgId: true, status: true, authorId: true, componentKind: true, class: true, tags: true, assembly: true, partNumber: true,
 	title: true, symptom: true, cause: true, fix: true, body: true, traceClasses: true, createdAt: true, updatedAt: true,
 	publishedAt: true, views: true, helpedCount: true, popularity: true
 };

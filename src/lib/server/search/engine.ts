@@ -4,7 +4,7 @@
  * the app passes `searchClient()` from ./index. Writes wait for their task and check its status:
  * the client resolves a failed task without throwing.
  *
- * Tenancy: `searchEntries` builds the organisation and status filter itself from its arguments;
+ * Tenancy: `searchEntries` builds the organisation and visibility filter itself from its arguments;
  * callers give structured filters, never filter strings, so they can neither forget nor widen it.
  */
 import {
@@ -226,8 +226,15 @@ export async function reindex(
 
 // ---------------------------------------------------------------- search
 
-/** A member's role, lowest first (the same names as the organisation's roles). */
-export type SearchRole = 'viewer' | 'contributor' | 'author' | 'admin';
+/**
+ * Who is searching, with the same visibility as reading entries: viewers see published entries,
+ * contributors also those they wrote, authors and admins everything (see entries' `readerFor`).
+ */
+export interface SearchReader {
+	userId: string;
+	seesAll: boolean;
+	seesOwn: boolean;
+}
 
 export const FACETS = ['componentKind', 'class', 'tags', 'assembly', 'status', 'traceClasses'] as const;
 export type Facet = (typeof FACETS)[number];
@@ -245,7 +252,7 @@ export type HighlightedField = (typeof HIGHLIGHTED)[number];
 
 export interface EntrySearch {
 	orgId: string;
-	role: SearchRole;
+	reader: SearchReader;
 	q?: string;
 	/** Values within one facet are alternatives (OR); different facets must all hold (AND). */
 	filters?: Partial<Record<Facet, readonly string[]>>;
@@ -275,16 +282,19 @@ export function quote(value: string): string {
 	return `"${value.replace(/\\/g, '\\\\').replace(/"/g, '\\"')}"`;
 }
 
-/** Viewers read published entries only; contributors and above see every status. */
-export function statusFilter(role: SearchRole): string | null {
-	return role === 'viewer' ? `status = ${quote('published')}` : null;
+/** Published entries for everyone; a contributor's own entries too; everything for authors and admins. */
+export function visibilityFilter(reader: SearchReader): string | null {
+	if (reader.seesAll) return null;
+	const published = `status = ${quote('published')}`;
+	if (reader.seesOwn && reader.userId) return `(${published} OR authorId = ${quote(reader.userId)})`;
+	return published;
 }
 
-/** The filter for one search: tenancy and role first, then the caller's facet choices. */
-export function entryFilter(search: Pick<EntrySearch, 'orgId' | 'role' | 'filters'>): string[] {
+/** The filter for one search: tenancy and visibility first, then the caller's facet choices. */
+export function entryFilter(search: Pick<EntrySearch, 'orgId' | 'reader' | 'filters'>): string[] {
 	if (!search.orgId) throw new Error('searchEntries needs an organisation id.');
 	const clauses = [`orgId = ${quote(search.orgId)}`];
-	const status = statusFilter(search.role);
+	const status = visibilityFilter(search.reader);
 	if (status) clauses.push(status);
 	for (const facet of FACETS) {
 		const values = search.filters?.[facet];
@@ -315,7 +325,7 @@ function safeHighlight(value: unknown): string | string[] | undefined {
 }
 
 /**
- * Searches one organisation's entries. The organisation and the role's status rule are always
+ * Searches one organisation's entries. The organisation and the reader's visibility are always
  * applied here; `filters` can only narrow. Limits are clamped to 1–100.
  */
 export async function searchEntries(engine: SearchEngine, search: EntrySearch): Promise<EntrySearchResult> {
