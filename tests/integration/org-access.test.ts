@@ -123,7 +123,8 @@ describe('role × action on the real routes', () => {
 	for (const route of ORG_ROUTES) {
 		for (const role of ROLES) {
 			const allowed = can(role, route.action);
-			it(`${label(route)} ${allowed ? 'lets' : 'refuses (403)'} ${role}`, async () => {
+			// Concurrent: each call has its own rows, and the server takes requests in parallel anyway.
+			it.concurrent(`${label(route)} ${allowed ? 'lets' : 'refuses (403)'} ${role}`, async ({ expect }) => {
 				const { path, body } = route.request(A, await fixtureFor(route));
 				const res = await call(app, members[role], route.method, path, body);
 				expect(res.status, res.text.slice(0, 300)).toBe(allowed ? allowedStatus(route) : 403);
@@ -145,14 +146,14 @@ describe('role × action on the real routes', () => {
 
 describe('cross-tenant access', () => {
 	for (const route of ORG_ROUTES) {
-		it(`${label(route)} is 404 for an admin of another organisation`, async () => {
+		it.concurrent(`${label(route)} is 404 for an admin of another organisation`, async ({ expect }) => {
 			const { path, body } = route.request(A, await fixtureFor(route));
 			const res = await call(app, outsider, route.method, path, body);
 			expect(res.status).toBe(404);
 			if (route.kind === 'endpoint') expect(res.json()).toMatchObject({ error: { code: 'not_found' } });
 		});
 
-		it(`${label(route)} answers an unknown organisation exactly like a foreign one`, async () => {
+		it.concurrent(`${label(route)} answers an unknown organisation exactly like a foreign one`, async ({ expect }) => {
 			const { path, body } = route.request('no-such-bench', await fixtureFor(route));
 			const res = await call(app, members.admin, route.method, path, body);
 			expect(res.status).toBe(404);
