@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { linearCurve, type LinearPart } from '../../../tests/support/analytic';
-import { logUniform, pick, seededRandom, synthesiseSamples, writeCapture, type Rng } from '../../../tests/support/captures';
+import { gaussian, logUniform, pick, seededRandom, synthesiseSamples, writeCapture, type Rng } from '../../../tests/support/captures';
 import { canonicalise, inferUnits } from './canonical';
 import { parseCapture } from './parse';
 import { toCanonical } from './curve';
@@ -79,6 +79,10 @@ describe('canonicalise', () => {
 			expect(err, `${part.kind} trial ${trial}`).toBeLessThan(1.5 * noiseFloor(sigma, s.v.length) + 0.002);
 			expect(curve.periods).toBe(Math.floor(s.periods));
 			expect(curve.simulated).toBe(false);
+			// The noise estimate matches the noise put in (σ per sample, σ/√m for m samples a point).
+			const expected = sigma / Math.sqrt(Math.max(1, s.v.length / 256));
+			expect(curve.noise!, `${part.kind} trial ${trial}`).toBeGreaterThan(0.6 * expected);
+			expect(curve.noise!, `${part.kind} trial ${trial}`).toBeLessThan(1.6 * expected);
 		}
 	});
 
@@ -213,6 +217,10 @@ describe('canonicalise', () => {
 		const part = synthesiseSamples(linearCurve({ kind: 'resistor', ohms: 1000 }, c, 4096), { rng: seededRandom(1), noise: 0.01, samplesPerPeriod: 200, periods: 0.6 });
 		expect(code(() => canonicalise(part, c))).toBe('no_period');
 		expect(code(() => canonicalise({ v: s.v.slice(0, 20), i: s.i.slice(0, 20) }, c))).toBe('too_few_samples');
+		// Noise alone (probes not connected): nothing repeats.
+		const rng = seededRandom(99);
+		const noiseOnly = { v: s.v.map(() => gaussian(rng)), i: s.i.map(() => gaussian(rng) / 1000) };
+		expect(code(() => canonicalise(noiseOnly, c))).toBe('no_period');
 		// v + i·Rs constant: no source signal at all.
 		const flat = { v: s.i.map((x) => 1 - x * 1000), i: s.i };
 		expect(code(() => canonicalise(flat, c))).toBe('no_period');

@@ -28,6 +28,9 @@
  *    periods with each other on a coarse grid (4…64 bins, ≥ 4 samples a bin): the RMS, over bins,
  *    periods and both axes, of each period's bin mean minus the mean of all periods, as a fraction
  *    of full scale (Vs, Vs/Rs). It includes what noise survives the bin averaging.
+ *    `noise` estimates each grid point's noise from the samples' own scatter (robust second
+ *    differences in time order, reduced by the number of samples averaged into a point), which
+ *    stays right when a sparse capture's curve is interpolated and looks smoother than it is.
  * 5. Warnings for the technician: the reconstructed source's amplitude is not Vs, or it is not a
  *    clean sine (its distortion, after removing the white noise estimated from sample-to-sample
  *    differences, exceeds 3 % of Vs) — wrong Rs, Vs or units entered; a DC offset; the time column
@@ -338,6 +341,13 @@ function findPhase(
 		}
 	}
 	const explained = 1 - fit.sse / sst;
+	if (explained < 0.3) {
+		// A real tester source explains nearly all of e even under bench noise; noise alone does not.
+		throw new SignatureError(
+			'no_period',
+			`No repeating source signal was found in V + I·Rs (the best sine explains ${Math.round(explained * 100)} % of it). Check the probes are connected, the channels and the Rs entered.`
+		);
+	}
 	return { omega: fit.omega, x0, phase: fit.phase, amp: fit.amp, offset: fit.offset, explained };
 }
 
@@ -510,6 +520,10 @@ export function canonicalise(
 	}
 	const curve = toCanonical(gv, gi, c, { periods: Math.floor(cycles + 1e-9), periodSpread, simulated: false });
 	curve.warnings = warnings;
+	// Noise per grid point: the samples' own noise, reduced by the samples averaged into a point.
+	const sv2 = sampleNoise(v) / vs;
+	const si2 = sampleNoise(i) / isc;
+	curve.noise = Math.sqrt((sv2 * sv2 + si2 * si2) / 2) / Math.sqrt(Math.max(1, n / N));
 	return curve;
 }
 
@@ -565,6 +579,25 @@ function checkSource(
 			`The capture has a DC offset of ${Number(offset.toPrecision(3))} V in V + I·Rs: check the scope's offset and coupling.`
 		);
 	}
+}
+
+/**
+ * RMS white noise of a channel from its samples in time order: the median absolute second difference
+ * (robust to knees and clipping) × 1.4826 / √6, on ≤ 4096 evenly spread triples.
+ */
+function sampleNoise(x: ArrayLike<number>): number {
+	const n = x.length;
+	if (n < 3) return 0;
+	const count = Math.min(4096, n - 2);
+	const stride = (n - 2) / count;
+	const d = new Float64Array(count);
+	for (let q = 0; q < count; q++) {
+		const k = Math.floor(q * stride);
+		d[q] = Math.abs(x[k] - 2 * x[k + 1] + x[k + 2]);
+	}
+	d.sort();
+	const median = count % 2 ? d[(count - 1) / 2] : 0.5 * (d[count / 2 - 1] + d[count / 2]);
+	return (1.4826 * median) / Math.sqrt(6);
 }
 
 function uniformSpacing(xAt: (k: number) => number, n: number, step: number): boolean {

@@ -82,6 +82,12 @@ export interface CanonicalCurve {
 	simulated: boolean;
 	/** Things found while canonicalising a capture that a technician should know (optional). */
 	warnings?: string[];
+	/**
+	 * Estimated RMS noise of each point of `vn` and `in` (fraction of full scale), from the scatter
+	 * of the capture's own samples. Sparse captures are interpolated between samples, so the curve's
+	 * point-to-point scatter understates their noise; this does not. Absent for simulated curves.
+	 */
+	noise?: number;
 }
 
 export type SignatureClass =
