@@ -2,6 +2,8 @@ import { NO_MIGRATIONS, sql } from 'kysely';
 import { afterAll, beforeEach, describe, expect, it } from 'vitest';
 import { assertMigrated, createMigrator } from '../../src/lib/server/db/migrate';
 import { seedDemo, DEMO_ORGANISATION } from '../../src/lib/server/demo/seed';
+import { DEMO_ENTRY_COUNT } from '../../src/lib/server/demo/entries';
+import { COMPONENT_KINDS } from '../../src/lib/schemas/entries';
 import { openTestDb, truncateAll } from './setup-db';
 import { createDb } from '../../src/lib/server/db/connect';
 import { databaseStatus } from '../../src/lib/server/db/status';
@@ -61,6 +63,23 @@ describe('seedDemo', () => {
 		expect(await seedDemo(db)).toBe(false);
 		const orgs = await db.selectFrom('organisation').select('slug').execute();
 		expect(orgs.map((o) => o.slug)).toContain(DEMO_ORGANISATION.slug);
+	});
+
+	it('seeds entries over every component kind and every review state, each with a stored fault capture', async () => {
+		await seedDemo(db);
+		const entries = await db.selectFrom('entry').select(['id', 'componentKind', 'status']).execute();
+		expect(entries).toHaveLength(DEMO_ENTRY_COUNT);
+		expect(new Set(entries.map((e) => e.componentKind))).toEqual(new Set(COMPONENT_KINDS));
+		expect(new Set(entries.map((e) => e.status))).toEqual(new Set(['draft', 'in_review', 'published', 'archived']));
+		const faults = await db.selectFrom('trace').select(['entryId', 'class', 'fileName']).where('role', '=', 'fault').execute();
+		expect(new Set(faults.map((t) => t.entryId))).toEqual(new Set(entries.map((e) => e.id)));
+		expect(faults.every((t) => t.fileName?.endsWith('.csv'))).toBe(true);
+		// The fault curves themselves cover the classes a technician meets on a bench.
+		expect(new Set(faults.map((t) => t.class))).toEqual(
+			new Set(['open', 'short', 'resistive', 'capacitive', 'inductive', 'junction', 'zener'])
+		);
+		const outbox = await db.selectFrom('searchOutbox').select('entityId').execute();
+		expect(new Set(outbox.map((o) => o.entityId))).toEqual(new Set(entries.map((e) => e.id)));
 	});
 });
 

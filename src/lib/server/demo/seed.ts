@@ -1,6 +1,7 @@
 import type { Kysely } from 'kysely';
 import { ensureUser } from '../auth/users';
 import type { Database } from '../db/connect';
+import { seedDemoEntries } from './entries';
 
 /**
  * Demo data: an invented repair depot. Everything here is made up for the demo — the
@@ -46,6 +47,8 @@ export async function seedDemo(db: Kysely<Database>): Promise<boolean> {
 			.values(users.map((u) => ({ orgId: organisation.id, userId: u.id, role: u.role })))
 			.onConflict((oc) => oc.columns(['orgId', 'userId']).doNothing())
 			.execute();
+		const byRole = Object.fromEntries(users.map((u) => [u.role, u.id])) as Record<(typeof DEMO_USERS)[number]['role'], string>;
+		await seedDemoEntries(trx, organisation.id, byRole);
 		await trx
 			.insertInto('appMeta')
 			.values({ key: 'demo_seeded_at', value: JSON.stringify(new Date().toISOString()) })
