@@ -5,6 +5,7 @@ import type { Role } from '../../src/lib/server/auth/permissions';
 import { ensureUser } from '../../src/lib/server/auth/users';
 import { findEntry, listEntries, listRevisions } from '../../src/lib/server/entries/queries';
 import { readerFor } from '../../src/lib/server/entries/rules';
+import { loadEntryDocuments } from '../../src/lib/server/entries/documents';
 import { createEntry, deleteEntry, transitionEntry, updateEntry } from '../../src/lib/server/entries/service';
 import { insertMembership, insertOrg } from '../../src/lib/server/orgs/queries';
 import { openTestDb, truncateAll } from './setup-db';
@@ -166,5 +167,17 @@ describe('soft delete', () => {
 		expect(await findEntry(db, a.admin.orgId, id, readerFor(a.admin))).toBeUndefined();
 		const ops = await db.selectFrom('searchOutbox').select('op').where('entityId', '=', id).orderBy('id').execute();
 		expect(ops.map((o) => o.op)).toEqual(['upsert', 'delete']);
+	});
+});
+
+describe('search documents', () => {
+	it('carry the stripped text and tenancy fields, and a deleted entry no longer loads', async () => {
+		const entry = await createEntry(db, a.author, fields({ cause: 'The **bus** capacitor [dried out](https://example.com/x).' }));
+		const [doc] = await loadEntryDocuments(db, [entry.id]);
+		expect(doc).toMatchObject({ id: entry.id, orgId: a.author.orgId, status: 'draft', authorId: a.author.userId, componentKind: 'electrolytic', class: null });
+		expect(doc.cause).toBe('The bus capacitor dried out.');
+		expect(doc.tags).toEqual(['gate-driver', 'leaky']);
+		await deleteEntry(db, a.admin, entry.id);
+		expect(await loadEntryDocuments(db, [entry.id])).toEqual([]);
 	});
 });
