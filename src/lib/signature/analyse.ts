@@ -109,7 +109,13 @@ export function analyse(curve: CanonicalCurve): Analysis {
 	// samples a period reaches the grid by interpolation, which makes its noise smooth (the
 	// second-difference estimate then sees too little) and piles it onto the low harmonics. So also
 	// measure it where it matters: harmonics 2…13, which a linear part leaves empty.
-	const sigmaPhasor = Math.max(sigma * Math.sqrt(2 / n), harmonicNoise(vn, cn, sin, cos, 2, 13));
+	// The canonical form's own per-point noise figure (from the samples' scatter), when it has one,
+	// is a floor for both.
+	const pointNoise = curve.noise ?? 0;
+	const sigmaPhasor = Math.max(
+		Math.max(sigma, pointNoise) * Math.sqrt(2 / n),
+		harmonicNoise(vn, cn, sin, cos, 2, 13)
+	);
 	// For parts without memory, points at θ and π − θ see the same source voltage, so their
 	// difference is noise whatever its spectrum.
 	const sigmaStatic = Math.max(sigma, mirrorNoise(vn, cn));
@@ -199,7 +205,7 @@ export function analyse(curve: CanonicalCurve): Analysis {
 
 	candidates.sort((a, b) => score(a) - score(b));
 	const best = candidates[0];
-	const complexLevel = Math.max(COMPLEX_RESIDUAL, 3 * sigma);
+	const complexLevel = Math.max(COMPLEX_RESIDUAL, 3 * Math.max(sigma, pointNoise));
 
 	if (best.residual > complexLevel) {
 		const ratio = best.residual / complexLevel;
