@@ -1,7 +1,14 @@
-import type { Handle, HandleServerError } from '@sveltejs/kit';
+import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
+import { building } from '$app/environment';
 import { sequence } from '@sveltejs/kit/hooks';
 import { authHandle } from './auth';
 import { apiTokenHandle } from '$lib/server/auth/member';
+import { startEntrySearchSync } from '$lib/server/search/start';
+
+/** Background work of the server process: keeping the search index in step with Postgres. */
+export const init: ServerInit = () => {
+	if (!building) startEntrySearchSync();
+};
 
 /**
  * Sign-in links are requested only through the /login form, which validates the address and applies
