@@ -546,7 +546,7 @@ function branchX(br: Branch, y: number): number {
 
 /**
  * The fitted model's point on the curve at source phase with sin θ = s: solves
- * s = v + i with p·v = x, p·i = G·x + y, x = branchX(y) by bisection on y (the right side grows
+ * s = v + i with p·v = x, p·i = G·x + y, x = branchX(y) for y by Newton steps kept in a bracket (the right side grows
  * with y, so the root is unique).
  */
 function modelPoint(
