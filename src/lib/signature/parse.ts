@@ -804,8 +804,9 @@ function parseDelimited(text: string, options: ParseOptions): ParsedCapture {
 
 	// 5. To SI, with the current from the sense channel for scope exports.
 	let senseOhm = options.senseOhm ?? found.senseOhm;
-	const v = new Array<number>(count);
-	const i = new Array<number>(count);
+	// Scaled in place: the read arrays become the samples.
+	const v = av;
+	const i = bv;
 	if (layout.format === 'scope-csv' && !layout.currentDirect) {
 		if (senseOhm === undefined || !(senseOhm > 0)) {
 			throw new SignatureError(
@@ -821,14 +822,12 @@ function parseDelimited(text: string, options: ParseOptions): ParsedCapture {
 	} else senseOhm = 1;
 	const ka = layout.scaleA;
 	const kb = layout.scaleB / (layout.format === 'scope-csv' && !layout.currentDirect ? senseOhm! : 1);
-	for (let k = 0; k < count; k++) {
-		v[k] = av[k] * ka;
-		i[k] = bv[k] * kb;
-	}
+	if (ka !== 1) for (let k = 0; k < count; k++) v[k] *= ka;
+	if (kb !== 1) for (let k = 0; k < count; k++) i[k] *= kb;
 	let t: number[] | undefined;
 	if (time !== null) {
 		t = tv;
-		for (let k = 0; k < count; k++) t[k] *= layout.scaleT;
+		if (layout.scaleT !== 1) for (let k = 0; k < count; k++) t[k] *= layout.scaleT;
 	} else if (found.intervalS !== undefined) {
 		t = new Array<number>(count);
 		for (let k = 0; k < count; k++) t[k] = k * found.intervalS;
