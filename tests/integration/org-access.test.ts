@@ -37,7 +37,9 @@ async function freshFixture(): Promise<RouteFixture> {
 		createInvitation(trx, { orgId: orgA, email: `pending${n}@example.com`, role: 'viewer', invitedBy: members.admin.userId })
 	);
 	if (!inv.ok) throw new Error(inv.message);
-	return { victimUserId: victim.userId, invitationId: inv.id, freshEmail: `fresh${n}@example.com` };
+	const token = await db.transaction().execute((trx) => createApiToken(trx, { userId: victim.userId, orgId: orgA, name: `bench ${n}`, role: 'viewer' }));
+	if (!token.ok) throw new Error(token.message);
+	return { victimUserId: victim.userId, invitationId: inv.id, freshEmail: `fresh${n}@example.com`, tokenId: token.id };
 }
 
 let shared: RouteFixture | undefined;

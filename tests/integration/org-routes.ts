@@ -29,6 +29,8 @@ export interface RouteFixture {
 	invitationId: string;
 	/** A new address to invite. */
 	freshEmail: string;
+	/** An active API token of the victim for the organisation. */
+	tokenId: string;
 }
 
 export const ORG_ROUTES: OrgRoute[] = [
@@ -79,6 +81,16 @@ export const ORG_ROUTES: OrgRoute[] = [
 		action: 'invitation:manage',
 		writes: true,
 		request: (s, fx) => ({ path: `/o/${s}/invitations?/revoke`, body: { id: fx.invitationId } })
+	},
+	{ route: 'o/[org=slug]/tokens', kind: 'page', method: 'GET', action: 'orgToken:manage', request: (s) => ({ path: `/o/${s}/tokens` }) },
+	{
+		route: 'o/[org=slug]/tokens',
+		kind: 'action',
+		name: 'revoke',
+		method: 'POST',
+		action: 'orgToken:manage',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/tokens?/revoke`, body: { id: fx.tokenId } })
 	},
 	{ route: 'o/[org=slug]/audit', kind: 'page', method: 'GET', action: 'audit:read', request: (s) => ({ path: `/o/${s}/audit` }) },
 	{ route: 'api/v1/orgs/[org=slug]', kind: 'endpoint', method: 'GET', action: 'org:read', request: (s) => ({ path: `/api/v1/orgs/${s}` }) },

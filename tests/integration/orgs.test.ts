@@ -1,5 +1,5 @@
 import { afterAll, beforeEach, describe, expect, it } from 'vitest';
-import { authenticateApiToken, createApiToken, revokeOwnApiToken } from '../../src/lib/server/auth/api-tokens';
+import { authenticateApiToken, createApiToken, listActiveOrgTokens, revokeOrgApiToken, revokeOwnApiToken } from '../../src/lib/server/auth/api-tokens';
 import { hashSecret } from '../../src/lib/server/auth/secret-token';
 import { ensureUser } from '../../src/lib/server/auth/users';
 import { DEMO_ORGANISATION, DEMO_USERS, seedDemo } from '../../src/lib/server/demo/seed';
@@ -105,6 +105,13 @@ describe('tenant scoping of the queries', () => {
 		expect(await listPendingInvitations(db, b.id)).toEqual([]);
 		expect(await listAudit(db, b.id)).toHaveLength(1);
 		expect((await listOrgsOfUser(db, alice.id)).map((o) => o.slug)).toEqual(['alpha']);
+		const t = await db.transaction().execute((trx) => createApiToken(trx, { userId: alice.id, orgId: a.id, name: 'bench', role: 'viewer' }));
+		if (!t.ok) throw new Error(t.message);
+		expect(await listActiveOrgTokens(db, b.id)).toEqual([]);
+		expect(await db.transaction().execute((trx) => revokeOrgApiToken(trx, { orgId: b.id, tokenId: t.id, actorId: bob.id }))).toBe(false);
+		expect(await authenticateApiToken(db, t.token)).toBeDefined();
+		expect(await db.transaction().execute((trx) => revokeOrgApiToken(trx, { orgId: a.id, tokenId: t.id, actorId: alice.id }))).toBe(true);
+		expect(await authenticateApiToken(db, t.token)).toBeUndefined();
 	});
 });
 

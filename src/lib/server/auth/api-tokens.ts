@@ -121,6 +121,48 @@ export async function revokeOwnApiToken(trx: Transaction<Database>, userId: stri
 	return true;
 }
 
+export interface OrgTokenSummary {
+	id: string;
+	userId: string;
+	name: string;
+	role: Role;
+	prefix: string;
+	createdAt: Date;
+	lastUsedAt: Date | null;
+}
+
+/** The organisation's active tokens, newest first, for its admins to review. */
+export async function listActiveOrgTokens(db: Kysely<Database>, orgId: string): Promise<OrgTokenSummary[]> {
+	return db
+		.selectFrom('apiToken')
+		.select(['id', 'userId', 'name', 'role', 'prefix', 'createdAt', 'lastUsedAt'])
+		.where('orgId', '=', orgId)
+		.where('revokedAt', 'is', null)
+		.orderBy('createdAt', 'desc')
+		.limit(500)
+		.execute();
+}
+
+/** An admin revokes any member's token for their organisation; false when there is none such. */
+export async function revokeOrgApiToken(trx: Transaction<Database>, input: { orgId: string; tokenId: string; actorId: string }): Promise<boolean> {
+	const row = await trx
+		.updateTable('apiToken')
+		.set({ revokedAt: new Date() })
+		.where('orgId', '=', input.orgId)
+		.where('id', '=', input.tokenId)
+		.where('revokedAt', 'is', null)
+		.returning(['name', 'userId'])
+		.executeTakeFirst();
+	if (!row) return false;
+	await writeAudit(trx, input.orgId, {
+		actorId: input.actorId,
+		action: 'token.revoked',
+		subject: `token:${input.tokenId}`,
+		details: { name: row.name, owner: row.userId }
+	});
+	return true;
+}
+
 /** Revokes every active token a user holds for one organisation (when they leave it). */
 export async function revokeTokensOfMember(trx: Transaction<Database>, orgId: string, userId: string): Promise<number> {
 	const r = await trx

@@ -2,8 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { orgSections } from './sections';
 
 describe('orgSections', () => {
-	// Which pages each role reaches follows the role table in DESIGN.md: members, invitations and
-	// the audit log are admin business; everyone sees the overview.
+	// Which pages each role reaches follows the role table in DESIGN.md: members, invitations,
+	// organisation API tokens and the audit log are admin business; everyone sees the overview.
 	it('shows a viewer, a contributor and an author only the overview', () => {
 		for (const role of ['viewer', 'contributor', 'author'] as const) {
 			expect(orgSections('bench', role).map((s) => s.label)).toEqual(['Overview']);
@@ -15,6 +15,7 @@ describe('orgSections', () => {
 			{ href: '/o/bench', label: 'Overview' },
 			{ href: '/o/bench/members', label: 'Members' },
 			{ href: '/o/bench/invitations', label: 'Invitations' },
+			{ href: '/o/bench/tokens', label: 'API tokens' },
 			{ href: '/o/bench/audit', label: 'Audit log' }
 		]);
 	});

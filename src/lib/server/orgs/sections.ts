@@ -10,6 +10,7 @@ const SECTIONS: { path: string; label: string; action: Action }[] = [
 	{ path: '', label: 'Overview', action: 'org:read' },
 	{ path: '/members', label: 'Members', action: 'member:read' },
 	{ path: '/invitations', label: 'Invitations', action: 'invitation:manage' },
+	{ path: '/tokens', label: 'API tokens', action: 'orgToken:manage' },
 	{ path: '/audit', label: 'Audit log', action: 'audit:read' }
 ];
 
