@@ -4,7 +4,7 @@ import { latestSignInLink, signIn } from './support/sign-in';
 // The demo admin from src/lib/server/demo/seed.ts (DEMO_USERS), seeded into the e2e database.
 const ADMIN = 'ilse.admin@fernhollow.example';
 
-test('create an organisation, invite a viewer who accepts and meets the limits, then promote them', async ({ page, browser }) => {
+test('create an organisation, invite a viewer who accepts and meets the limits, then promote and remove them', async ({ page, browser }) => {
 	// Two people and two sign-ins in one story: more steps than the default allowance covers on a busy machine.
 	test.setTimeout(120_000);
 	const suffix = Date.now().toString(36);
@@ -88,9 +88,16 @@ test('create an organisation, invite a viewer who accepts and meets the limits, 
 	await them.goto(`/o/${slug}`);
 	await expect(them.getByTestId('org-role')).toContainText('author');
 
+	// Removal takes effect on their very next request: the organisation is then a plain 404 to them.
+	page.once('dialog', (dialog) => void dialog.accept());
+	await row.getByRole('button', { name: /^Remove / }).click();
+	await expect(page.getByTestId('member-row').filter({ hasText: invitee })).toHaveCount(0);
+	const gone = await them.goto(`/o/${slug}`);
+	expect(gone?.status()).toBe(404);
+
 	// Everything above is in the audit log.
 	await page.goto(`/o/${slug}/audit`);
-	for (const action of ['org.created', 'invitation.created', 'member.joined', 'member.role_changed']) {
+	for (const action of ['org.created', 'invitation.created', 'member.joined', 'member.role_changed', 'member.removed']) {
 		await expect(page.locator(`[data-action="${action}"]`).first()).toBeVisible();
 	}
 	await page.screenshot({ path: 'test-output/screenshots/org-audit.png', fullPage: true });
