@@ -1,0 +1,68 @@
+import { describe, expect, it } from 'vitest';
+import { DESCRIPTOR_LENGTH, descriptorDistance } from '../../signature/compare';
+import { DescriptorIndex } from './descriptor-index';
+
+const c1 = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 };
+const c2 = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 50 }; // 20 % off in f: not comparable
+
+function rng(seed: number) {
+	let s = seed >>> 0;
+	return () => ((s = (s * 1664525 + 1013904223) >>> 0) / 2 ** 32);
+}
+
+function randomVector(r: () => number): Float32Array {
+	// Decaying spectrum like a real descriptor: most energy in the first harmonics.
+	return Float32Array.from({ length: DESCRIPTOR_LENGTH }, (_, k) => (r() - 0.5) / (1 + k / 4));
+}
+
+describe('DescriptorIndex', () => {
+	it('returns exactly the k nearest of a brute-force scan, early abandoning notwithstanding', () => {
+		const r = rng(5);
+		const index = new DescriptorIndex<{ n: number }>();
+		const vectors: Float32Array[] = [];
+		for (let n = 0; n < 2000; n++) {
+			const v = randomVector(r);
+			vectors.push(v);
+			index.upsert({ traceId: `t${n}`, conditions: c1, data: { n } }, v);
+		}
+		for (let q = 0; q < 20; q++) {
+			const query = randomVector(r);
+			const got = index.search(query, c1, 10).map((c) => c.meta.traceId);
+			const want = vectors
+				.map((v, n) => ({ n, d: descriptorDistance(v, query) }))
+				.sort((a, b) => a.d - b.d)
+				.slice(0, 10)
+				.map((x) => `t${x.n}`);
+			expect(got).toEqual(want);
+		}
+	});
+
+	it('ranks every comparable trace above the incomparable ones and marks them', () => {
+		const index = new DescriptorIndex();
+		const base = new Float32Array(DESCRIPTOR_LENGTH);
+		const near = base.map((_, k) => (k === 0 ? 0.001 : 0));
+		const far = base.map((_, k) => (k === 0 ? 0.5 : 0));
+		index.upsert({ traceId: 'same-shape-other-conditions', conditions: c2, data: null }, near);
+		index.upsert({ traceId: 'other-shape-same-conditions', conditions: c1, data: null }, far);
+		const result = index.search(base, c1, 5);
+		expect(result.map((c) => [c.meta.traceId, c.comparable])).toEqual([
+			['other-shape-same-conditions', true],
+			['same-shape-other-conditions', false]
+		]);
+	});
+
+	it('filters by metadata, replaces on upsert and forgets removed traces', () => {
+		const index = new DescriptorIndex<{ published: boolean }>();
+		const zero = new Float32Array(DESCRIPTOR_LENGTH);
+		index.upsert({ traceId: 'a', conditions: c1, data: { published: true } }, zero);
+		index.upsert({ traceId: 'b', conditions: c1, data: { published: false } }, zero);
+		index.upsert({ traceId: 'c', conditions: c1, data: { published: true } }, zero);
+		expect(index.search(zero, c1, 10, (m) => m.data.published).map((c) => c.meta.traceId).sort()).toEqual(['a', 'c']);
+		index.upsert({ traceId: 'a', conditions: c1, data: { published: false } }, zero);
+		expect(index.size).toBe(3);
+		expect(index.remove('b')).toBe(true);
+		expect(index.remove('b')).toBe(false);
+		expect(index.search(zero, c1, 10).map((c) => c.meta.traceId).sort()).toEqual(['a', 'c']);
+		expect(() => index.upsert({ traceId: 'x', conditions: c1, data: { published: true } }, [1, 2, 3])).toThrow(RangeError);
+	});
+});

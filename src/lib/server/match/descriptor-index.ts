@@ -1,0 +1,194 @@
+import { conditionsComparable, DESCRIPTOR_LENGTH } from '../../signature/compare';
+import type { TestConditions } from '../../signature/types';
+
+/**
+ * The candidate index behind "match a capture": every stored trace's descriptor packed into one
+ * Float32Array (DESCRIPTOR_LENGTH floats per trace, 256 bytes), scanned linearly with early
+ * abandoning against the current k-th best, so a query reads each descriptor at most once and
+ * usually stops after its first few harmonics. Pure: no I/O; the caller loads rows into it and
+ * re-ranks the candidates with the exact shape distance.
+ *
+ * Why a flat scan and not a tree or graph index: the descriptor distance is a truncated Parseval
+ * sum, whose leading terms (mean and first harmonics) carry most of a curve's energy, so early
+ * abandoning already skips most of the work; a scan has no build cost, no recall loss, handles
+ * deletes by a swap, and its speed is bounded below by memory bandwidth, which is what the
+ * benchmark compares it with.
+ */
+
+export interface TraceMeta<M = unknown> {
+	traceId: string;
+	conditions: TestConditions;
+	/** Whatever the caller filters on (entry id, role, kind, status…), kept beside the vector. */
+	data: M;
+}
+
+export interface Candidate<M = unknown> {
+	meta: TraceMeta<M>;
+	/** Descriptor (Euclidean) distance to the query. */
+	descriptorDistance: number;
+	comparable: boolean;
+}
+
+const D = DESCRIPTOR_LENGTH;
+/** Dimensions between early-abandon checks. */
+const BLOCK = 8;
+
+export class DescriptorIndex<M = unknown> {
+	private vectors = new Float32Array(0);
+	private metas: TraceMeta<M>[] = [];
+	private slotOf = new Map<string, number>();
+
+	get size(): number {
+		return this.metas.length;
+	}
+
+	/** Bytes held by the packed vectors (the metadata objects come on top; see the benchmark). */
+	get vectorBytes(): number {
+		return this.vectors.byteLength;
+	}
+
+	/** Adds or replaces one trace. */
+	upsert(meta: TraceMeta<M>, descriptor: ArrayLike<number>): void {
+		if (descriptor.length !== D) throw new RangeError(`descriptor must have ${D} numbers, not ${descriptor.length}`);
+		let slot = this.slotOf.get(meta.traceId);
+		if (slot === undefined) {
+			slot = this.metas.length;
+			this.ensureCapacity(slot + 1);
+			this.metas.push(meta);
+			this.slotOf.set(meta.traceId, slot);
+		} else {
+			this.metas[slot] = meta;
+		}
+		this.vectors.set(descriptor, slot * D);
+	}
+
+	/** Removes a trace by moving the last one into its slot. */
+	remove(traceId: string): boolean {
+		const slot = this.slotOf.get(traceId);
+		if (slot === undefined) return false;
+		const last = this.metas.length - 1;
+		if (slot !== last) {
+			this.vectors.copyWithin(slot * D, last * D, last * D + D);
+			this.metas[slot] = this.metas[last];
+			this.slotOf.set(this.metas[slot].traceId, slot);
+		}
+		this.metas.pop();
+		this.slotOf.delete(traceId);
+		return true;
+	}
+
+	has(traceId: string): boolean {
+		return this.slotOf.has(traceId);
+	}
+
+	private ensureCapacity(n: number): void {
+		if (n * D <= this.vectors.length) return;
+		const grown = new Float32Array(Math.max(n, Math.ceil(this.metas.length * 1.5), 64) * D);
+		grown.set(this.vectors.subarray(0, this.metas.length * D));
+		this.vectors = grown;
+	}
+
+	/**
+	 * The `k` nearest traces by descriptor distance among those with comparable conditions, then
+	 * the `k` nearest among the rest (incomparable conditions rank below comparable ones), each
+	 * list nearest first. `accept` filters by metadata (tenancy is by index: one per organisation).
+	 */
+	search(
+		query: ArrayLike<number>,
+		conditions: TestConditions,
+		k: number,
+		accept: (meta: TraceMeta<M>) => boolean = () => true
+	): Candidate<M>[] {
+		const q = Float32Array.from(query);
+		const near = new TopK(k);
+		const far = new TopK(k);
+		const v = this.vectors;
+		for (let slot = 0; slot < this.metas.length; slot++) {
+			const meta = this.metas[slot];
+			if (!accept(meta)) continue;
+			const comparable = conditionsComparable(conditions, meta.conditions);
+			const heap = comparable ? near : far;
+			const bound = heap.bound;
+			const base = slot * D;
+			let s = 0;
+			let j = 0;
+			for (; j < D; j += BLOCK) {
+				const end = Math.min(D, j + BLOCK);
+				for (let t = j; t < end; t++) {
+					const d = v[base + t] - q[t];
+					s += d * d;
+				}
+				if (s >= bound) break;
+			}
+			if (s < bound) heap.push(s, slot);
+		}
+		const out: Candidate<M>[] = [];
+		for (const [heap, comparable] of [
+			[near, true],
+			[far, false]
+		] as const) {
+			for (const { d2, slot } of heap.sorted()) {
+				out.push({ meta: this.metas[slot], descriptorDistance: Math.sqrt(d2), comparable });
+			}
+		}
+		return out;
+	}
+}
+
+/** The k smallest values seen, as a bounded max-heap. */
+class TopK {
+	private d2: number[] = [];
+	private slots: number[] = [];
+
+	constructor(private readonly k: number) {}
+
+	/** Anything at or above this cannot enter. */
+	get bound(): number {
+		return this.d2.length < this.k ? Infinity : this.d2[0];
+	}
+
+	push(d2: number, slot: number): void {
+		if (this.k <= 0) return;
+		if (this.d2.length < this.k) {
+			this.d2.push(d2);
+			this.slots.push(slot);
+			this.up(this.d2.length - 1);
+		} else if (d2 < this.d2[0]) {
+			this.d2[0] = d2;
+			this.slots[0] = slot;
+			this.down(0);
+		}
+	}
+
+	sorted(): { d2: number; slot: number }[] {
+		return this.d2.map((d2, i) => ({ d2, slot: this.slots[i] })).sort((a, b) => a.d2 - b.d2 || a.slot - b.slot);
+	}
+
+	private swap(a: number, b: number): void {
+		[this.d2[a], this.d2[b]] = [this.d2[b], this.d2[a]];
+		[this.slots[a], this.slots[b]] = [this.slots[b], this.slots[a]];
+	}
+
+	private up(i: number): void {
+		while (i > 0) {
+			const p = (i - 1) >> 1;
+			if (this.d2[p] >= this.d2[i]) return;
+			this.swap(p, i);
+			i = p;
+		}
+	}
+
+	private down(i: number): void {
+		const n = this.d2.length;
+		for (;;) {
+			const l = 2 * i + 1;
+			const r = l + 1;
+			let m = i;
+			if (l < n && this.d2[l] > this.d2[m]) m = l;
+			if (r < n && this.d2[r] > this.d2[m]) m = r;
+			if (m === i) return;
+			this.swap(m, i);
+			i = m;
+		}
+	}
+}
