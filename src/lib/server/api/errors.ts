@@ -11,7 +11,10 @@ export type ApiErrorCode =
 	| 'not_found'
 	| 'invalid_input'
 	| 'conflict'
-	| 'last_admin';
+	| 'last_admin'
+	| 'too_large'
+	| 'invalid_capture'
+	| 'invalid_transition';
 
 export interface ApiIssue {
 	path: string;
