@@ -50,6 +50,8 @@ export default defineConfig({
 			HOST: '127.0.0.1',
 			PORT: String(port),
 			ORIGIN: baseURL,
+			// Captures may be up to 20 MB; our endpoints enforce their own limits while streaming.
+			BODY_SIZE_LIMIT: '25M',
 			NODE_ENV: 'production'
 		}
 	}

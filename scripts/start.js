@@ -91,7 +91,7 @@ try {
 
 	step('Starting the server…');
 	const server = startChild('app', process.execPath, ['build/index.js'], {
-		env: { ...env, HOST: '127.0.0.1', PORT: String(port), NODE_ENV: 'production' }
+		env: { BODY_SIZE_LIMIT: '25M', ...env, HOST: '127.0.0.1', PORT: String(port), NODE_ENV: 'production' }
 	});
 	cleanups.push(
 		() =>
