@@ -80,6 +80,7 @@ test('create an organisation, invite a viewer who accepts and meets the limits, 
 	await row.getByRole('combobox').selectOption('author');
 	await row.getByRole('button', { name: 'Change role' }).click();
 	await expect(row.getByText('Role changed to author.')).toBeVisible();
+	await page.screenshot({ path: 'test-output/screenshots/org-members.png', fullPage: true });
 	const mine = page.getByTestId('member-row').filter({ hasText: ADMIN });
 	await mine.getByRole('combobox').selectOption('viewer');
 	await mine.getByRole('button', { name: 'Change role' }).click();
@@ -112,6 +113,12 @@ test('someone else’s organisation is a plain 404, like one that does not exist
 	await expect(page.getByRole('heading', { level: 1 })).toHaveText('There is nothing at this address');
 	const demo = await page.goto('/o/fernhollow/members');
 	expect(demo?.status()).toBe(403);
+	// On a phone-sized screen the top bar still holds the switcher and the user menu.
+	await page.setViewportSize({ width: 390, height: 800 });
+	await page.goto('/o/fernhollow');
+	await expect(page.getByTestId('org-switcher')).toBeVisible();
+	await expect(page.getByTestId('user-menu')).toBeVisible();
+	await page.screenshot({ path: 'test-output/screenshots/org-home-narrow.png', fullPage: true });
 });
 
 test('an API token is shown once, works for its organisation, and stops at revocation', async ({ page, playwright, baseURL }) => {
