@@ -4,7 +4,7 @@ import { simulate } from '../../signature/simulate';
 import type { DeviceModel, TestConditions } from '../../signature/types';
 import type { Database } from '../db/connect';
 import { insertEntry, insertRevision, setEntryStatus, snapshotOf } from '../entries/queries';
-import { enqueueSearchUpdate } from '../search/outbox';
+import { recordEntryChange } from '../entries/changes';
 import { insertTrace, processCapture, processSimulation } from '../traces/service';
 
 /**
@@ -278,7 +278,7 @@ export async function seedDemoEntries(trx: Transaction<Database>, orgId: string,
 				reviewComment: demo.reviewComment ?? null
 			});
 		}
-		await enqueueSearchUpdate(trx, orgId, id, 'upsert');
+		await recordEntryChange(trx, orgId, id, 'upsert');
 	}
 	return ENTRIES.length;
 }

@@ -2,7 +2,7 @@ import type { Kysely } from 'kysely';
 import type { EntryFields, EntryTransition, EntryUpdate } from '../../schemas/entries';
 import type { MemberContext } from '../auth/member';
 import type { Database } from '../db/connect';
-import { enqueueSearchUpdate } from '../search/outbox';
+import { recordEntryChange } from './changes';
 import {
 	type Entry,
 	findEntry,
@@ -25,7 +25,7 @@ export async function createEntry(db: Kysely<Database>, member: MemberContext, f
 	return db.transaction().execute(async (trx) => {
 		const id = await insertEntry(trx, member.orgId, member.userId, fields);
 		await insertRevision(trx, member.orgId, id, 1, member.userId, snapshotOf(fields), 'Created');
-		await enqueueSearchUpdate(trx, member.orgId, id, 'upsert');
+		await recordEntryChange(trx, member.orgId, id, 'upsert');
 		const entry = await findEntry(trx, member.orgId, id, readerFor(member));
 		if (!entry) throw new Error('entry vanished inside its own transaction');
 		return entry;
@@ -57,7 +57,7 @@ export async function updateEntry(
 		const newVersion = await updateEntryFields(trx, member.orgId, id, version, fields);
 		if (newVersion === undefined) return { kind: 'conflict', current: locked, yours: fields };
 		await insertRevision(trx, member.orgId, id, newVersion, member.userId, fields, note);
-		await enqueueSearchUpdate(trx, member.orgId, id, 'upsert');
+		await recordEntryChange(trx, member.orgId, id, 'upsert');
 		const entry = await findEntry(trx, member.orgId, id, reader);
 		return entry ? { kind: 'saved', entry } : { kind: 'not_found' };
 	});
@@ -92,7 +92,7 @@ export async function transitionEntry(
 			...(transition === 'publish' ? { publishedAt: locked.publishedAt ?? now, reviewerId: member.userId, reviewComment: null } : {}),
 			...(transition === 'return' ? { reviewerId: member.userId, reviewComment: comment.trim() } : {})
 		});
-		await enqueueSearchUpdate(trx, member.orgId, id, 'upsert');
+		await recordEntryChange(trx, member.orgId, id, 'upsert');
 		const entry = await findEntry(trx, member.orgId, id, reader);
 		return entry ? { kind: 'done', entry } : { kind: 'not_found' };
 	});
@@ -104,7 +104,7 @@ export const RESTORE_WINDOW_DAYS = 30;
 export async function deleteEntry(db: Kysely<Database>, member: MemberContext, id: string): Promise<boolean> {
 	return db.transaction().execute(async (trx) => {
 		const deleted = await softDeleteEntry(trx, member.orgId, id, member.userId);
-		if (deleted) await enqueueSearchUpdate(trx, member.orgId, id, 'delete');
+		if (deleted) await recordEntryChange(trx, member.orgId, id, 'delete');
 		return deleted;
 	});
 }

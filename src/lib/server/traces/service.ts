@@ -219,15 +219,16 @@ export async function findTrace(db: Db, orgId: string, id: string): Promise<Stor
 	return r ? toStoredTrace(r) : undefined;
 }
 
-/** The trace's canonical curve (SI units, canonical phase grid). */
-export async function findTraceCurve(db: Db, orgId: string, id: string): Promise<CanonicalCurve | undefined> {
-	const r = await db
-		.selectFrom('trace')
-		.select(['canonical', 'sourcePeakV', 'sourceResistanceOhm', 'frequencyHz', 'periods', 'simulated'])
-		.where('orgId', '=', orgId)
-		.where('id', '=', id)
-		.executeTakeFirst();
-	if (!r) return undefined;
+const CURVE_COLUMNS = ['id', 'canonical', 'sourcePeakV', 'sourceResistanceOhm', 'frequencyHz', 'periods', 'simulated'] as const;
+
+function toCurve(r: {
+	canonical: unknown;
+	sourcePeakV: number;
+	sourceResistanceOhm: number;
+	frequencyHz: number;
+	periods: number;
+	simulated: boolean;
+}): CanonicalCurve {
 	const c = r.canonical as { v: number[]; i: number[]; periodSpread: number | null };
 	const conditions = { sourcePeakV: r.sourcePeakV, sourceResistanceOhm: r.sourceResistanceOhm, frequencyHz: r.frequencyHz };
 	const isc = conditions.sourcePeakV / conditions.sourceResistanceOhm;
@@ -241,6 +242,19 @@ export async function findTraceCurve(db: Db, orgId: string, id: string): Promise
 		periodSpread: c.periodSpread,
 		simulated: r.simulated
 	};
+}
+
+/** The trace's canonical curve (SI units, canonical phase grid). */
+export async function findTraceCurve(db: Db, orgId: string, id: string): Promise<CanonicalCurve | undefined> {
+	const r = await db.selectFrom('trace').select(CURVE_COLUMNS).where('orgId', '=', orgId).where('id', '=', id).executeTakeFirst();
+	return r ? toCurve(r) : undefined;
+}
+
+/** Canonical curves of several traces of one organisation, by trace id. */
+export async function findTraceCurves(db: Db, orgId: string, ids: string[]): Promise<Map<string, CanonicalCurve>> {
+	if (ids.length === 0) return new Map();
+	const rows = await db.selectFrom('trace').select(CURVE_COLUMNS).where('orgId', '=', orgId).where('id', 'in', ids).limit(ids.length).execute();
+	return new Map(rows.map((r) => [r.id, toCurve(r)]));
 }
 
 /** The original uploaded file, for download. */
