@@ -8,6 +8,9 @@ import { createInvitation } from '../../src/lib/server/orgs/invitations';
 import { createOrganisation } from '../../src/lib/server/orgs/members';
 import { insertMembership } from '../../src/lib/server/orgs/queries';
 import { ORG_ROUTES, type OrgRoute, type RouteFixture } from './org-routes';
+import { entryCreate } from '../../src/lib/schemas/entries';
+import { createEntry, transitionEntry } from '../../src/lib/server/entries/service';
+import { insertTrace, processSimulation } from '../../src/lib/server/traces/service';
 import { openTestDb, testDatabaseUrl, truncateAll } from './setup-db';
 import { type AppServer, call, type Caller, sessionFor, startAppServer } from './support/app-server';
 
@@ -39,7 +42,17 @@ async function freshFixture(): Promise<RouteFixture> {
 	if (!inv.ok) throw new Error(inv.message);
 	const token = await db.transaction().execute((trx) => createApiToken(trx, { userId: victim.userId, orgId: orgA, name: `bench ${n}`, role: 'viewer' }));
 	if (!token.ok) throw new Error(token.message);
-	return { victimUserId: victim.userId, invitationId: inv.id, freshEmail: `fresh${n}@example.com`, tokenId: token.id };
+	const admin = { userId: members.admin.userId, orgId: orgA, orgSlug: A, orgName: A, role: 'admin' as const, via: 'session' as const };
+	const entry = await createEntry(db, admin, entryCreate.parse({ title: `Fixture ${n}`, componentKind: 'resistor', symptom: 'Fixture' }));
+	await transitionEntry(db, admin, entry.id, 'publish', '');
+	const traceId = await insertTrace(db, orgA, {
+		entryId: entry.id,
+		role: 'fault',
+		label: '',
+		createdBy: admin.userId,
+		processed: processSimulation({ kind: 'resistor', ohms: 2200 }, { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 })
+	});
+	return { victimUserId: victim.userId, invitationId: inv.id, freshEmail: `fresh${n}@example.com`, tokenId: token.id, entryId: entry.id, traceId };
 }
 
 let shared: RouteFixture | undefined;
@@ -77,7 +90,7 @@ afterAll(async () => {
 
 const label = (r: OrgRoute) => `${r.method} ${r.route}${r.name ? ` ?/${r.name}` : ''}`;
 /** The status an allowed caller gets: pages and actions render (200), endpoints answer 200/201. */
-const allowedStatus = (r: OrgRoute) => (r.kind === 'endpoint' && r.method === 'POST' ? 201 : 200);
+const allowedStatus = (r: OrgRoute) => r.status ?? (r.kind === 'endpoint' && r.method === 'POST' ? 201 : 200);
 
 describe('the route table', () => {
 	// Walks the route folders themselves, so a new page, endpoint or form action cannot be left out.

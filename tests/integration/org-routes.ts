@@ -14,7 +14,9 @@ export interface OrgRoute {
 	kind: 'page' | 'action' | 'endpoint';
 	/** For form actions, the action name as exported by +page.server.ts. */
 	name?: string;
-	method: 'GET' | 'POST';
+	method: 'GET' | 'POST' | 'PATCH' | 'DELETE';
+	/** Status of an allowed call when it is not the usual (200, or 201 for an endpoint POST). */
+	status?: number;
 	action: Action;
 	/** Writes something when allowed: the matrix gives each allowed call fresh data. */
 	writes?: boolean;
@@ -31,6 +33,23 @@ export interface RouteFixture {
 	freshEmail: string;
 	/** An active API token of the victim for the organisation. */
 	tokenId: string;
+	/** A published entry written by the admin (so only editAny may change it), version 1. */
+	entryId: string;
+	/** Its fault trace. */
+	traceId: string;
+}
+
+/** A small bench capture as JSON samples: a 2.2 kΩ resistor at 10 V · 1 kΩ (Ohm's law), 4 periods. */
+function resistorCapture() {
+	const n = 400;
+	const v: number[] = [];
+	const i: number[] = [];
+	for (let k = 0; k < n; k++) {
+		const e = 10 * Math.sin((2 * Math.PI * 4 * k) / n);
+		i.push(e / 3200);
+		v.push((e * 2200) / 3200);
+	}
+	return { capture: { v, i }, sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60, role: 'known-good' };
 }
 
 export const ORG_ROUTES: OrgRoute[] = [
@@ -115,5 +134,63 @@ export const ORG_ROUTES: OrgRoute[] = [
 		action: 'invitation:manage',
 		writes: true,
 		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/invitations`, body: { json: { email: fx.freshEmail, role: 'viewer' } } })
+	},
+	// Entries and traces. Changing someone else's published entry takes entry:editAny whatever the
+	// endpoint's own guard lets through, so that is what the matrix checks for those calls.
+	{ route: 'api/v1/orgs/[org=slug]/entries', kind: 'endpoint', method: 'GET', action: 'entry:read', request: (s) => ({ path: `/api/v1/orgs/${s}/entries?status=published&limit=5` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/entries',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'entry:draft',
+		writes: true,
+		request: (s) => ({ path: `/api/v1/orgs/${s}/entries`, body: { json: { title: 'Route test', componentKind: 'other', symptom: 'Route test' } } })
+	},
+	{ route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]', kind: 'endpoint', method: 'GET', action: 'entry:read', request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]',
+		kind: 'endpoint',
+		method: 'PATCH',
+		action: 'entry:editAny',
+		writes: true,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}`, body: { json: { version: 1, symptom: 'Edited by the route test' } } })
+	},
+	{
+		route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]',
+		kind: 'endpoint',
+		method: 'DELETE',
+		action: 'entry:delete',
+		writes: true,
+		status: 204,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}` })
+	},
+	{
+		route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]/transitions',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'entry:publish',
+		writes: true,
+		status: 200,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/transitions`, body: { json: { action: 'archive' } } })
+	},
+	{ route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]/revisions', kind: 'endpoint', method: 'GET', action: 'entry:read', request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/revisions` }) },
+	{ route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]/traces', kind: 'endpoint', method: 'GET', action: 'trace:read', request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/traces` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]/traces',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'entry:editAny',
+		writes: true,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/traces`, body: { json: resistorCapture() } })
+	},
+	{ route: 'api/v1/orgs/[org=slug]/traces/[trace=uuid]', kind: 'endpoint', method: 'GET', action: 'trace:read', request: (s, fx) => ({ path: `/api/v1/orgs/${s}/traces/${fx.traceId}?view=canonical` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/traces/[trace=uuid]',
+		kind: 'endpoint',
+		method: 'DELETE',
+		action: 'entry:editAny',
+		writes: true,
+		status: 204,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/traces/${fx.traceId}` })
 	}
 ];

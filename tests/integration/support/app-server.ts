@@ -113,6 +113,9 @@ export async function call(
 		headers.accept = 'text/html,application/xhtml+xml';
 		headers['content-type'] = 'application/x-www-form-urlencoded';
 		payload = new URLSearchParams(body as Record<string, string>).toString();
+	} else if (method === 'DELETE' || method === 'PATCH' || method === 'PUT') {
+		// Forms never send these: this is a script calling the API.
+		headers.accept = 'application/json';
 	} else if (method !== 'GET') {
 		headers.accept = 'text/html,application/xhtml+xml';
 		headers['content-type'] = 'application/x-www-form-urlencoded';

@@ -6,6 +6,7 @@ import { ACTIONS, type Action, allowedActions, can, grantableTokenRoles, isRole,
 // uploads, drafts, submitting, comments; author adds review, publish, edit any entry, assemblies
 // and reference sets; admin adds members, invitations, roles, settings, organisation API tokens.
 // Export/import sit with authors and the audit log with admins: our own choice, no source.
+// Deleting an entry is for admins (the entries specification: "delete (admin; soft-delete").
 const EXPECTED: Record<Action, Record<Role, boolean>> = {
 	'org:read': { viewer: true, contributor: true, author: true, admin: true },
 	'entry:read': { viewer: true, contributor: true, author: true, admin: true },
@@ -24,6 +25,7 @@ const EXPECTED: Record<Action, Record<Role, boolean>> = {
 	'entry:import': { viewer: false, contributor: false, author: true, admin: true },
 	'assembly:manage': { viewer: false, contributor: false, author: true, admin: true },
 	'referenceSet:manage': { viewer: false, contributor: false, author: true, admin: true },
+	'entry:delete': { viewer: false, contributor: false, author: false, admin: true },
 	'member:read': { viewer: false, contributor: false, author: false, admin: true },
 	'member:manage': { viewer: false, contributor: false, author: false, admin: true },
 	'invitation:manage': { viewer: false, contributor: false, author: false, admin: true },

@@ -34,6 +34,7 @@ const GRANTS = {
 		'referenceSet:manage' // known-good reference sets
 	],
 	admin: [
+		'entry:delete', // soft-delete an entry (restorable for 30 days)
 		'member:read', // the members page: names, e-mail addresses, roles, activity
 		'member:manage', // change roles, remove members
 		'invitation:manage', // invite, resend, revoke
