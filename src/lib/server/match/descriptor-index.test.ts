@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { DESCRIPTOR_LENGTH, descriptorDistance } from '../../signature/compare';
+import { conditionsComparable, DESCRIPTOR_LENGTH, descriptorDistance } from '../../signature/compare';
 import { DescriptorIndex } from './descriptor-index';
 
 const c1 = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 };
@@ -64,5 +64,20 @@ describe('DescriptorIndex', () => {
 		expect(index.remove('b')).toBe(false);
 		expect(index.search(zero, c1, 10).map((c) => c.meta.traceId).sort()).toEqual(['a', 'c']);
 		expect(() => index.upsert({ traceId: 'x', conditions: c1, data: { published: true } }, [1, 2, 3])).toThrow(RangeError);
+	});
+});
+
+describe('comparable conditions in the index', () => {
+	it('agree with the engine’s own rule for random pairs around the tolerance', () => {
+		const r = rng(9);
+		const zero = new Float32Array(DESCRIPTOR_LENGTH);
+		for (let n = 0; n < 300; n++) {
+			const a = { sourcePeakV: 1 + 20 * r(), sourceResistanceOhm: 100 + 1e4 * r(), frequencyHz: 50 + 1000 * r() };
+			const jitter = () => 1 + (r() - 0.5) * 0.14; // ±7 %: both sides of the 5 % tolerance
+			const b = { sourcePeakV: a.sourcePeakV * jitter(), sourceResistanceOhm: a.sourceResistanceOhm * jitter(), frequencyHz: a.frequencyHz * jitter() };
+			const index = new DescriptorIndex();
+			index.upsert({ traceId: 'b', conditions: b, data: null }, zero);
+			expect(index.search(zero, a, 1)[0].comparable).toBe(conditionsComparable(a, b));
+		}
 	});
 });

@@ -1,4 +1,4 @@
-import { conditionsComparable, DESCRIPTOR_LENGTH } from '../../signature/compare';
+import { CONDITION_TOLERANCE, DESCRIPTOR_LENGTH } from '../../signature/compare';
 import type { TestConditions } from '../../signature/types';
 
 /**
@@ -32,9 +32,12 @@ export interface Candidate<M = unknown> {
 const D = DESCRIPTOR_LENGTH;
 /** Dimensions between early-abandon checks. */
 const BLOCK = 8;
+if (DESCRIPTOR_LENGTH % BLOCK !== 0) throw new Error('the descriptor length must be a multiple of the scan block');
 
 export class DescriptorIndex<M = unknown> {
 	private vectors = new Float32Array(0);
+	/** Vs, Rs, f of each slot, packed, so the comparability test reads no objects. */
+	private conds = new Float64Array(0);
 	private metas: TraceMeta<M>[] = [];
 	private slotOf = new Map<string, number>();
 
@@ -60,6 +63,10 @@ export class DescriptorIndex<M = unknown> {
 			this.metas[slot] = meta;
 		}
 		this.vectors.set(descriptor, slot * D);
+		const c = meta.conditions;
+		this.conds[slot * 3] = c.sourcePeakV;
+		this.conds[slot * 3 + 1] = c.sourceResistanceOhm;
+		this.conds[slot * 3 + 2] = c.frequencyHz;
 	}
 
 	/** Removes a trace by moving the last one into its slot. */
@@ -69,6 +76,7 @@ export class DescriptorIndex<M = unknown> {
 		const last = this.metas.length - 1;
 		if (slot !== last) {
 			this.vectors.copyWithin(slot * D, last * D, last * D + D);
+			this.conds.copyWithin(slot * 3, last * 3, last * 3 + 3);
 			this.metas[slot] = this.metas[last];
 			this.slotOf.set(this.metas[slot].traceId, slot);
 		}
@@ -83,9 +91,13 @@ export class DescriptorIndex<M = unknown> {
 
 	private ensureCapacity(n: number): void {
 		if (n * D <= this.vectors.length) return;
-		const grown = new Float32Array(Math.max(n, Math.ceil(this.metas.length * 1.5), 64) * D);
+		const capacity = Math.max(n, Math.ceil(this.metas.length * 1.5), 64);
+		const grown = new Float32Array(capacity * D);
 		grown.set(this.vectors.subarray(0, this.metas.length * D));
 		this.vectors = grown;
+		const conds = new Float64Array(capacity * 3);
+		conds.set(this.conds.subarray(0, this.metas.length * 3));
+		this.conds = conds;
 	}
 
 	/**
@@ -97,28 +109,41 @@ export class DescriptorIndex<M = unknown> {
 		query: ArrayLike<number>,
 		conditions: TestConditions,
 		k: number,
-		accept: (meta: TraceMeta<M>) => boolean = () => true
+		accept?: (meta: TraceMeta<M>) => boolean
 	): Candidate<M>[] {
 		const q = Float32Array.from(query);
 		const near = new TopK(k);
 		const far = new TopK(k);
 		const v = this.vectors;
-		for (let slot = 0; slot < this.metas.length; slot++) {
-			const meta = this.metas[slot];
-			if (!accept(meta)) continue;
-			const comparable = conditionsComparable(conditions, meta.conditions);
+		const cs = this.conds;
+		// Comparable: each of Vs, Rs, f within its tolerance as a ratio (conditionsComparable's rule,
+		// written as multiplications so the hot loop does no division and calls nothing).
+		const [tv, tr, tf] = [CONDITION_TOLERANCE.sourcePeakV, CONDITION_TOLERANCE.sourceResistanceOhm, CONDITION_TOLERANCE.frequencyHz].map((t) => 1 + t + 1e-12);
+		const qv = conditions.sourcePeakV;
+		const qr = conditions.sourceResistanceOhm;
+		const qf = conditions.frequencyHz;
+		const n = this.metas.length;
+		for (let slot = 0; slot < n; slot++) {
+			if (accept && !accept(this.metas[slot])) continue;
+			const sv = cs[slot * 3];
+			const sr = cs[slot * 3 + 1];
+			const sf = cs[slot * 3 + 2];
+			const comparable = sv <= qv * tv && qv <= sv * tv && sr <= qr * tr && qr <= sr * tr && sf <= qf * tf && qf <= sf * tf;
 			const heap = comparable ? near : far;
 			const bound = heap.bound;
 			const base = slot * D;
+			// The leading coefficients carry most of a curve's energy: check the bound after them
+			// first, then in blocks, and stop as soon as the partial sum passes it.
 			let s = 0;
-			let j = 0;
-			for (; j < D; j += BLOCK) {
-				const end = Math.min(D, j + BLOCK);
-				for (let t = j; t < end; t++) {
+			for (let t = 0; t < BLOCK; t++) {
+				const d = v[base + t] - q[t];
+				s += d * d;
+			}
+			for (let j = BLOCK; s < bound && j < D; j += BLOCK) {
+				for (let t = j; t < j + BLOCK; t++) {
 					const d = v[base + t] - q[t];
 					s += d * d;
 				}
-				if (s >= bound) break;
 			}
 			if (s < bound) heap.push(s, slot);
 		}
