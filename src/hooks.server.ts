@@ -3,11 +3,14 @@ import { building } from '$app/environment';
 import { sequence } from '@sveltejs/kit/hooks';
 import { authHandle } from './auth';
 import { apiTokenHandle } from '$lib/server/auth/member';
+import { matchIndexes } from '$lib/server/match';
 import { startEntrySearchSync } from '$lib/server/search/start';
 
-/** Background work of the server process: keeping the search index in step with Postgres. */
+/** Background work of the server process: the search index and the match indexes follow Postgres. */
 export const init: ServerInit = () => {
-	if (!building) startEntrySearchSync();
+	if (building) return;
+	startEntrySearchSync();
+	matchIndexes();
 };
 
 /**

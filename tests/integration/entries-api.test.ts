@@ -108,6 +108,35 @@ describe('entries API', () => {
 		expect(((await call(app, who.author, 'GET', `${base}/entries/${entry.id}/traces`)).json() as any).traces).toEqual([]);
 	}, 60_000);
 
+	it('matches a capture against published traces: the right entry first, its neighbour next', async () => {
+		const publish = async (title: string, ohms: number) => {
+			const e = ((await call(app, who.author, 'POST', `${base}/entries`, { json: { title, componentKind: 'resistor', symptom: title } })).json() as any).entry;
+			const rng = seededRandom(ohms);
+			const curve = simulate({ kind: 'resistor', ohms }, conditions, { points: 4096 });
+			const file = writeCapture(synthesiseSamples(curve, { rng, noise: 0.005 }), randomStyle(rng, 'vi-csv'));
+			const fields = Object.fromEntries(Object.entries({ ...conditions, ...file.parseOptions }).map(([k, v]) => [k, String(v)]));
+			expect((await upload(who.author.cookie, e.id, file.text, fields)).status).toBe(201);
+			await call(app, who.author, 'POST', `${base}/entries/${e.id}/transitions`, { json: { action: 'publish' } });
+			return e.id as string;
+		};
+		const r3k3 = await publish('Match 3.3 kΩ', 3300);
+		const r3k9 = await publish('Match 3.9 kΩ', 3900);
+		const rng = seededRandom(99);
+		const query = synthesiseSamples(simulate({ kind: 'resistor', ohms: 3300 }, conditions, { points: 4096 }), { rng, noise: 0.01 });
+		const res = await call(app, who.viewer, 'POST', `${base}/matches?limit=5`, { json: { capture: { v: query.v, i: query.i }, ...conditions } });
+		expect(res.status).toBe(200);
+		const body = res.json() as any;
+		expect(body.capture.analysis.class).toBe('resistive');
+		const ids = body.matches.map((m: any) => m.entry.id);
+		expect(ids.indexOf(r3k3)).toBe(0);
+		expect(ids.indexOf(r3k9)).toBeGreaterThan(0);
+		expect(body.matches[0]).toMatchObject({ comparable: true, trace: { canonical: { v: expect.any(Array) } } });
+		expect(body.matches[0].similarity).toBeGreaterThan(body.matches[ids.indexOf(r3k9)].similarity);
+		// Different conditions (50 Hz is 20 % off 60 Hz): still ranked, but marked not comparable.
+		const other = (await call(app, who.viewer, 'POST', `${base}/matches`, { json: { capture: { v: query.v, i: query.i }, ...conditions, frequencyHz: 50 } })).json() as any;
+		expect(other.matches.every((m: any) => m.comparable === false)).toBe(true);
+	}, 60_000);
+
 	it('lets a viewer read but not write', async () => {
 		expect((await call(app, who.viewer, 'POST', `${base}/entries`, { json: { title: 't', componentKind: 'other', symptom: 's' } })).status).toBe(403);
 		expect((await call(app, who.viewer, 'GET', `${base}/entries`)).status).toBe(200);

@@ -192,5 +192,13 @@ export const ORG_ROUTES: OrgRoute[] = [
 		writes: true,
 		status: 204,
 		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/traces/${fx.traceId}` })
+	},
+	{
+		route: 'api/v1/orgs/[org=slug]/matches',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'match:run',
+		status: 200,
+		request: (s) => ({ path: `/api/v1/orgs/${s}/matches?limit=5`, body: { json: resistorCapture() } })
 	}
 ];

@@ -166,3 +166,14 @@ export const traceUpload = testConditions.extend({
 	invertCurrent: checkbox
 });
 export type TraceUpload = z.infer<typeof traceUpload>;
+
+/** Options of a match request, beside the capture and its conditions. */
+export const matchOptions = z.object({
+	limit: z.coerce.number().int().catch(10).transform((n) => Math.min(50, Math.max(1, n))).default(10),
+	componentKind: z.enum(COMPONENT_KINDS).optional().catch(undefined),
+	assembly: z.string().trim().max(LIMITS.shortField).optional(),
+	tags: tagList.optional(),
+	traceRole: z.enum(TRACE_ROLES).optional().catch(undefined),
+	/** Keep the capture as a query trace, to attach to a new entry later. */
+	save: checkbox
+});

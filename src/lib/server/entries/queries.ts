@@ -304,3 +304,10 @@ export async function countInReview(db: Db, orgId: string): Promise<number> {
 		.executeTakeFirstOrThrow();
 	return r.n;
 }
+
+/** Several entries the reader may see, by id (for match results); missing ones are left out. */
+export async function findEntriesByIds(db: Db, orgId: string, ids: string[], reader: Reader): Promise<Map<string, Entry>> {
+	if (ids.length === 0) return new Map();
+	const rows = await visibleTo(baseQuery(db, orgId), reader).where('entry.id', 'in', ids).limit(ids.length).execute();
+	return new Map(rows.map((r) => [r.id, toEntry(r)]));
+}

@@ -8,7 +8,14 @@ import { MAX_TRACE_BYTES, processCapture, type ProcessedTrace } from './service'
 const MAX_UPLOAD_BYTES = MAX_TRACE_BYTES + 64 * 1024;
 
 export type UploadResult =
-	| { ok: true; upload: TraceUpload; processed: ProcessedTrace; file: { name: string; bytes: Uint8Array } }
+	| {
+			ok: true;
+			upload: TraceUpload;
+			processed: ProcessedTrace;
+			file: { name: string; bytes: Uint8Array };
+			/** Every other field sent with the capture, for the caller's own options. */
+			fields: Record<string, unknown>;
+	  }
 	| { ok: false; response: Response };
 
 /**
@@ -49,7 +56,7 @@ export async function readCaptureUpload(request: Request): Promise<UploadResult>
 		return { ok: false, response: apiError(400, 'invalid_input', 'Check the test conditions.', toApiIssues(upload.error.issues)) };
 	}
 	try {
-		return { ok: true, upload: upload.data, processed: processCapture(file.bytes, upload.data), file };
+		return { ok: true, upload: upload.data, processed: processCapture(file.bytes, upload.data), file, fields };
 	} catch (e) {
 		if (!isSignatureError(e)) throw e;
 		const issue = { path: 'file', message: e.message };
