@@ -3,7 +3,7 @@
  * positions and their labels with engineering prefixes, keyboard zoom and pan, and closing a curve
  * into a loop. Pure functions of plain values.
  */
-import { formatConditions, formatSI } from '../signature/format';
+import { engineeringPrefix, formatConditions, formatSI } from '../signature/format';
 import type { TestConditions } from '../signature/types';
 
 /** A closed interval [min, max] on one axis, SI units. */
@@ -60,16 +60,6 @@ export function ticks(range: Range, maxTicks: number): number[] {
 	return out;
 }
 
-const PREFIXES: readonly [scale: number, prefix: string][] = [
-	[1e9, 'G'],
-	[1e6, 'M'],
-	[1e3, 'k'],
-	[1, ''],
-	[1e-3, 'm'],
-	[1e-6, 'µ'],
-	[1e-9, 'n'],
-	[1e-12, 'p']
-];
 
 /**
  * The engineering prefix for an axis whose largest tick magnitude is `maxAbs`: the largest power
@@ -78,8 +68,7 @@ const PREFIXES: readonly [scale: number, prefix: string][] = [
 export function axisPrefix(maxAbs: number): { scale: number; prefix: string } {
 	const abs = Math.abs(maxAbs);
 	if (!(abs > 0) || !Number.isFinite(abs)) return { scale: 1, prefix: '' };
-	const found = PREFIXES.find(([s]) => abs >= s * 0.9995) ?? PREFIXES[PREFIXES.length - 1];
-	return { scale: found[0], prefix: found[1] };
+	return engineeringPrefix(abs);
 }
 
 /**

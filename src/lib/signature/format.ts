@@ -12,14 +12,23 @@ const PREFIXES: [number, string][] = [
 ];
 
 /**
+ * The engineering prefix for a magnitude: the largest power of 10³ not above it (BIPM SI Brochure,
+ * prefixes), with a little slack so 999.96 rounds up into the next prefix.
+ */
+export function engineeringPrefix(magnitude: number): { scale: number; prefix: string } {
+	const abs = Math.abs(magnitude);
+	const [scale, prefix] = PREFIXES.find(([s]) => abs >= s * 0.9995) ?? PREFIXES[PREFIXES.length - 1];
+	return { scale, prefix };
+}
+
+/**
  * Formats a value in SI units with an engineering prefix and three significant figures,
  * e.g. `formatSI(2200, 'Ω')` → "2.2 kΩ", `formatSI(4.7e-7, 'F')` → "470 nF".
  */
 export function formatSI(value: number, unit: string, digits = 3): string {
 	if (!Number.isFinite(value)) return `${value} ${unit}`.trim();
 	if (value === 0) return `0 ${unit}`.trim();
-	const abs = Math.abs(value);
-	const [scale, prefix] = PREFIXES.find(([s]) => abs >= s * 0.9995) ?? PREFIXES[PREFIXES.length - 1];
+	const { scale, prefix } = engineeringPrefix(value);
 	const scaled = value / scale;
 	const text = Number(scaled.toPrecision(digits)).toString();
 	return `${text} ${prefix}${unit}`.trim();

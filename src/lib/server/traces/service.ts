@@ -1,11 +1,12 @@
 import { createHash } from 'node:crypto';
-import type { Kysely, Transaction } from 'kysely';
+import type { Kysely, Selectable, Transaction } from 'kysely';
 import type { TraceRole, TraceUpload } from '../../schemas/entries';
 import { analyse } from '../../signature/analyse';
 import { analyseCapture, descriptor, MAX_BYTES } from '../../signature/index';
 import { simulate } from '../../signature/simulate';
 import type { Analysis, CanonicalCurve, DeviceModel, TestConditions } from '../../signature/types';
 import type { Database } from '../db/connect';
+import type { Trace as TraceRow } from '../db/schema';
 
 type Db = Kysely<Database> | Transaction<Database>;
 
@@ -138,48 +139,6 @@ export async function insertTrace(
 	return row.id;
 }
 
-function toStoredTrace(r: {
-	id: string;
-	entryId: string | null;
-	role: string;
-	label: string;
-	sourcePeakV: number;
-	sourceResistanceOhm: number;
-	frequencyHz: number;
-	senseOhm: number | null;
-	simulated: boolean;
-	fileName: string | null;
-	fileFormat: string | null;
-	fileBytes: number | null;
-	sampleCount: number;
-	periods: number;
-	class: string;
-	residual: number;
-	analysis: unknown;
-	warnings: string[];
-	createdAt: Date;
-}): StoredTrace {
-	return {
-		id: r.id,
-		entryId: r.entryId,
-		role: r.role as TraceRole,
-		label: r.label,
-		conditions: { sourcePeakV: r.sourcePeakV, sourceResistanceOhm: r.sourceResistanceOhm, frequencyHz: r.frequencyHz },
-		senseOhm: r.senseOhm,
-		simulated: r.simulated,
-		fileName: r.fileName,
-		fileFormat: r.fileFormat,
-		fileBytes: r.fileBytes,
-		sampleCount: r.sampleCount,
-		periods: r.periods,
-		class: r.class,
-		residual: r.residual,
-		analysis: r.analysis as Analysis,
-		warnings: r.warnings,
-		createdAt: r.createdAt
-	};
-}
-
 const TRACE_COLUMNS = [
 	'id',
 	'entryId',
@@ -201,6 +160,29 @@ const TRACE_COLUMNS = [
 	'warnings',
 	'createdAt'
 ] as const;
+
+function toStoredTrace(r: Pick<Selectable<TraceRow>, (typeof TRACE_COLUMNS)[number]>): StoredTrace {
+	return {
+		id: r.id,
+		entryId: r.entryId,
+		role: r.role as TraceRole,
+		label: r.label,
+		conditions: { sourcePeakV: r.sourcePeakV, sourceResistanceOhm: r.sourceResistanceOhm, frequencyHz: r.frequencyHz },
+		senseOhm: r.senseOhm,
+		simulated: r.simulated,
+		fileName: r.fileName,
+		fileFormat: r.fileFormat,
+		fileBytes: r.fileBytes,
+		sampleCount: r.sampleCount,
+		periods: r.periods,
+		class: r.class,
+		residual: r.residual,
+		analysis: r.analysis as unknown as Analysis,
+		warnings: r.warnings,
+		createdAt: r.createdAt
+	};
+}
+
 
 export async function listEntryTraces(db: Db, orgId: string, entryId: string): Promise<StoredTrace[]> {
 	const rows = await db
