@@ -13,7 +13,7 @@
  * curves): its cost is the per-trace cost measured at 100 000, times the size, and is printed as
  * extrapolated.
  */
-import { compare, descriptor } from '../../src/lib/signature/compare';
+import { compare, descriptor, descriptorTail } from '../../src/lib/signature/compare';
 import { toCanonical } from '../../src/lib/signature/curve';
 import { CANONICAL_POINTS, type CanonicalCurve, type TestConditions } from '../../src/lib/signature/types';
 import { DescriptorIndex } from '../../src/lib/server/match/descriptor-index';
@@ -27,8 +27,10 @@ const CONDITIONS: TestConditions[] = [
 	{ sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 1000 }
 ];
 /** Candidates re-ranked exactly; MATCH_CANDIDATES overrides it for experiments. */
-const CANDIDATES = Number(process.env.MATCH_CANDIDATES ?? 256);
+const CANDIDATES = Number(process.env.MATCH_CANDIDATES ?? 128);
 /** MATCH_SIZES=10000,100000 runs fewer sizes. */
+/** MATCH_TAILS=0 leaves out the per-trace tail energy (for comparison). */
+const useTails = process.env.MATCH_TAILS !== '0';
 const SIZES = (process.env.MATCH_SIZES ?? '10000,100000,1000000').split(',').map(Number);
 
 function rng(seed: number) {
@@ -115,7 +117,8 @@ export async function run(): Promise<void> {
 			const d = descriptor(curve);
 			// Build time is the index's own: in the app the descriptors come stored from Postgres.
 			const t0 = now();
-			index.upsert({ traceId: `t${n}`, conditions: curve.conditions, data: n }, d);
+			const tail = useTails ? descriptorTail(curve, d) : 0;
+			index.upsert({ traceId: `t${n}`, conditions: curve.conditions, data: n }, d, tail);
 			buildMs += now() - t0;
 		}
 		gc?.();

@@ -179,6 +179,23 @@ export function descriptor(curve: CanonicalCurve): Float32Array {
 	return out;
 }
 
+/**
+ * The curve's energy beyond its descriptor: sqrt of (1/2N)·Σ(vn² + in²) minus the descriptor's
+ * squared norm (Parseval), i.e. the harmonics the descriptor leaves out — on a bench capture mostly
+ * noise. For two curves with uncorrelated noise the exact squared distance is close to the
+ * descriptor's squared distance plus both tails squared, which lets a candidate search rank like the
+ * exact distance among near neighbours.
+ */
+export function descriptorTail(curve: CanonicalCurve, d: ArrayLike<number> = descriptor(curve)): number {
+	const n = curve.vn.length;
+	let total = 0;
+	for (let k = 0; k < n; k++) total += curve.vn[k] ** 2 + curve.in[k] ** 2;
+	total /= 2 * n;
+	let kept = 0;
+	for (let k = 0; k < d.length; k++) kept += d[k] * d[k];
+	return Math.sqrt(Math.max(0, total - kept));
+}
+
 /** Euclidean distance between two descriptors. */
 export function descriptorDistance(a: ArrayLike<number>, b: ArrayLike<number>): number {
 	let s = 0;

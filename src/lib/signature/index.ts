@@ -25,6 +25,7 @@ export {
 	conditionsComparable,
 	descriptor,
 	descriptorDistance,
+	descriptorTail,
 	similarityOf,
 	DESCRIPTOR_LENGTH
 } from './compare';

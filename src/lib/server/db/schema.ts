@@ -190,6 +190,7 @@ export interface Trace {
   createdAt: Generated<Timestamp>;
   createdBy: string | null;
   descriptor: number[];
+  descriptorTail: Generated<number>;
   entryId: string | null;
   fileBytes: number | null;
   fileData: Buffer | null;

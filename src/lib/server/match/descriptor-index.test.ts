@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { conditionsComparable, DESCRIPTOR_LENGTH, descriptorDistance } from '../../signature/compare';
+import { conditionsComparable, descriptor, DESCRIPTOR_LENGTH, descriptorDistance, descriptorTail } from '../../signature/compare';
 import { DescriptorIndex } from './descriptor-index';
 
 const c1 = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 };
@@ -79,5 +79,28 @@ describe('comparable conditions in the index', () => {
 			index.upsert({ traceId: 'b', conditions: b, data: null }, zero);
 			expect(index.search(zero, a, 1)[0].comparable).toBe(conditionsComparable(a, b));
 		}
+	});
+});
+
+describe('descriptor tail', () => {
+	it('completes the descriptor to the curve’s whole energy (Parseval’s theorem)', () => {
+		const r = rng(21);
+		const n = 256;
+		const vn = Array.from({ length: n }, (_, k) => Math.sin((2 * Math.PI * k) / n) * 0.6 + (r() - 0.5) * 0.05);
+		const cn = Array.from({ length: n }, (_, k) => Math.sin((2 * Math.PI * k) / n) * 0.3 + (r() - 0.5) * 0.05);
+		const curve = { conditions: c1, v: vn, i: cn, vn, in: cn, periods: 1, periodSpread: null, simulated: false };
+		const d = descriptor(curve);
+		const energy = vn.reduce((s, x, k) => s + x * x + cn[k] * cn[k], 0) / (2 * n);
+		const kept = d.reduce((s, x) => s + x * x, 0);
+		expect(kept + descriptorTail(curve) ** 2).toBeCloseTo(energy, 6);
+		expect(descriptorTail(curve)).toBeGreaterThan(0);
+	});
+
+	it('ranks, among equal descriptor distances, the trace with less energy beyond the descriptor first', () => {
+		const index = new DescriptorIndex();
+		const zero = new Float32Array(DESCRIPTOR_LENGTH);
+		index.upsert({ traceId: 'noisy', conditions: c1, data: null }, zero, 0.05);
+		index.upsert({ traceId: 'clean', conditions: c1, data: null }, zero, 0.01);
+		expect(index.search(zero, c1, 2).map((c) => c.meta.traceId)).toEqual(['clean', 'noisy']);
 	});
 });

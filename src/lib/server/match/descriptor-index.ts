@@ -38,6 +38,8 @@ export class DescriptorIndex<M = unknown> {
 	private vectors = new Float32Array(0);
 	/** Vs, Rs, f of each slot, packed, so the comparability test reads no objects. */
 	private conds = new Float64Array(0);
+	/** Squared energy of each curve's harmonics beyond the descriptor (see `descriptorTail`). */
+	private tails = new Float32Array(0);
 	private metas: TraceMeta<M>[] = [];
 	private slotOf = new Map<string, number>();
 
@@ -50,8 +52,12 @@ export class DescriptorIndex<M = unknown> {
 		return this.vectors.byteLength;
 	}
 
-	/** Adds or replaces one trace. */
-	upsert(meta: TraceMeta<M>, descriptor: ArrayLike<number>): void {
+	/**
+	 * Adds or replaces one trace. `tail` is the curve's energy beyond the descriptor's harmonics
+	 * (`descriptorTail`): mostly bench noise, different for every capture, and part of the exact
+	 * distance that the descriptor alone cannot see. 0 when unknown.
+	 */
+	upsert(meta: TraceMeta<M>, descriptor: ArrayLike<number>, tail = 0): void {
 		if (descriptor.length !== D) throw new RangeError(`descriptor must have ${D} numbers, not ${descriptor.length}`);
 		let slot = this.slotOf.get(meta.traceId);
 		if (slot === undefined) {
@@ -67,6 +73,7 @@ export class DescriptorIndex<M = unknown> {
 		this.conds[slot * 3] = c.sourcePeakV;
 		this.conds[slot * 3 + 1] = c.sourceResistanceOhm;
 		this.conds[slot * 3 + 2] = c.frequencyHz;
+		this.tails[slot] = tail * tail;
 	}
 
 	/** Removes a trace by moving the last one into its slot. */
@@ -77,6 +84,7 @@ export class DescriptorIndex<M = unknown> {
 		if (slot !== last) {
 			this.vectors.copyWithin(slot * D, last * D, last * D + D);
 			this.conds.copyWithin(slot * 3, last * 3, last * 3 + 3);
+			this.tails[slot] = this.tails[last];
 			this.metas[slot] = this.metas[last];
 			this.slotOf.set(this.metas[slot].traceId, slot);
 		}
@@ -98,6 +106,9 @@ export class DescriptorIndex<M = unknown> {
 		const conds = new Float64Array(capacity * 3);
 		conds.set(this.conds.subarray(0, this.metas.length * 3));
 		this.conds = conds;
+		const tails = new Float32Array(capacity);
+		tails.set(this.tails.subarray(0, this.metas.length));
+		this.tails = tails;
 	}
 
 	/**
@@ -134,7 +145,9 @@ export class DescriptorIndex<M = unknown> {
 			const base = slot * D;
 			// The leading coefficients carry most of a curve's energy: check the bound after them
 			// first, then in blocks, and stop as soon as the partial sum passes it.
-			let s = 0;
+			// Two noisy curves' tails are uncorrelated, so the exact squared distance is about the
+			// descriptor's plus both tails; the query's tail is the same for every trace and left out.
+			let s = this.tails[slot];
 			for (let t = 0; t < BLOCK; t++) {
 				const d = v[base + t] - q[t];
 				s += d * d;

@@ -92,6 +92,7 @@ export class MatchIndexes {
 				'trace.sourceResistanceOhm',
 				'trace.frequencyHz',
 				'trace.descriptor',
+				'trace.descriptorTail',
 				'entry.status',
 				'entry.authorId',
 				'entry.componentKind',
@@ -116,7 +117,7 @@ export class MatchIndexes {
 					tags: r.tags
 				}
 			};
-			loaded.index.upsert(meta, r.descriptor);
+			loaded.index.upsert(meta, r.descriptor, r.descriptorTail);
 			let set = loaded.byEntry.get(meta.data.entryId);
 			if (!set) loaded.byEntry.set(meta.data.entryId, (set = new Set()));
 			set.add(r.id);
@@ -202,7 +203,7 @@ export interface MatchResult {
 }
 
 /** How many descriptor candidates are re-ranked with the exact distance, at least. */
-export const MIN_CANDIDATES = 64;
+export const MIN_CANDIDATES = 128;
 
 /**
  * Stored traces ranked by shape against `query`: descriptor candidates from the index, re-ranked

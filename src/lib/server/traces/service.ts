@@ -2,7 +2,7 @@ import { createHash } from 'node:crypto';
 import type { Kysely, Selectable, Transaction } from 'kysely';
 import type { TraceRole, TraceUpload } from '../../schemas/entries';
 import { analyse } from '../../signature/analyse';
-import { analyseCapture, descriptor, MAX_BYTES } from '../../signature/index';
+import { analyseCapture, descriptor, descriptorTail, MAX_BYTES } from '../../signature/index';
 import { simulate } from '../../signature/simulate';
 import type { Analysis, CanonicalCurve, DeviceModel, TestConditions } from '../../signature/types';
 import type { Database } from '../db/connect';
@@ -19,6 +19,8 @@ export interface ProcessedTrace {
 	curve: CanonicalCurve;
 	analysis: Analysis;
 	descriptor: number[];
+	/** Energy beyond the descriptor (`descriptorTail`), for the match index. */
+	descriptorTail: number;
 	warnings: string[];
 }
 
@@ -44,7 +46,7 @@ export function processCapture(bytes: Uint8Array, upload: TraceUpload): Processe
 		sampleCount: result.capture.count,
 		curve: result.curve,
 		analysis: result.analysis,
-		descriptor: Array.from(descriptor(result.curve)),
+		...descriptors(result.curve),
 		warnings: result.warnings
 	};
 }
@@ -60,9 +62,14 @@ export function processSimulation(model: DeviceModel, conditions: TestConditions
 		sampleCount: curve.v.length,
 		curve,
 		analysis,
-		descriptor: Array.from(descriptor(curve)),
+		...descriptors(curve),
 		warnings: analysis.warnings
 	};
+}
+
+function descriptors(curve: CanonicalCurve): { descriptor: number[]; descriptorTail: number } {
+	const d = descriptor(curve);
+	return { descriptor: Array.from(d), descriptorTail: descriptorTail(curve, d) };
 }
 
 function pickConditions(u: TestConditions): TestConditions {
@@ -128,6 +135,7 @@ export async function insertTrace(
 			periods: p.curve.periods,
 			canonical: JSON.stringify({ v: p.curve.v, i: p.curve.i, periodSpread: p.curve.periodSpread }),
 			descriptor: p.descriptor,
+			descriptorTail: p.descriptorTail,
 			analysis: JSON.stringify(p.analysis),
 			class: p.analysis.class,
 			residual: p.analysis.residual,
