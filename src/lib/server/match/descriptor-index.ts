@@ -32,10 +32,17 @@ export interface Candidate<M = unknown> {
 const D = DESCRIPTOR_LENGTH;
 /** Dimensions between early-abandon checks. */
 const BLOCK = 8;
-if (DESCRIPTOR_LENGTH % BLOCK !== 0) throw new Error('the descriptor length must be a multiple of the scan block');
+/**
+ * Leading coefficients kept in an array of their own. Most traces are abandoned within them, so
+ * a scan streams 64 bytes per trace instead of the whole 256-byte vector (struct-of-arrays).
+ */
+const HEAD = 16;
+const REST = D - HEAD;
+if (DESCRIPTOR_LENGTH % BLOCK !== 0 || DESCRIPTOR_LENGTH < 16) throw new Error('the descriptor length must be a multiple of the scan block');
 
 export class DescriptorIndex<M = unknown> {
-	private vectors = new Float32Array(0);
+	private heads = new Float32Array(0);
+	private rests = new Float32Array(0);
 	/** Vs, Rs, f of each slot, packed, so the comparability test reads no objects. */
 	private conds = new Float64Array(0);
 	/** Squared energy of each curve's harmonics beyond the descriptor (see `descriptorTail`). */
@@ -49,7 +56,7 @@ export class DescriptorIndex<M = unknown> {
 
 	/** Bytes held by the packed vectors (the metadata objects come on top; see the benchmark). */
 	get vectorBytes(): number {
-		return this.vectors.byteLength;
+		return this.heads.byteLength + this.rests.byteLength;
 	}
 
 	/**
@@ -68,7 +75,8 @@ export class DescriptorIndex<M = unknown> {
 		} else {
 			this.metas[slot] = meta;
 		}
-		this.vectors.set(descriptor, slot * D);
+		for (let t = 0; t < HEAD; t++) this.heads[slot * HEAD + t] = descriptor[t];
+		for (let t = 0; t < REST; t++) this.rests[slot * REST + t] = descriptor[HEAD + t];
 		const c = meta.conditions;
 		this.conds[slot * 3] = c.sourcePeakV;
 		this.conds[slot * 3 + 1] = c.sourceResistanceOhm;
@@ -82,7 +90,8 @@ export class DescriptorIndex<M = unknown> {
 		if (slot === undefined) return false;
 		const last = this.metas.length - 1;
 		if (slot !== last) {
-			this.vectors.copyWithin(slot * D, last * D, last * D + D);
+			this.heads.copyWithin(slot * HEAD, last * HEAD, last * HEAD + HEAD);
+			this.rests.copyWithin(slot * REST, last * REST, last * REST + REST);
 			this.conds.copyWithin(slot * 3, last * 3, last * 3 + 3);
 			this.tails[slot] = this.tails[last];
 			this.metas[slot] = this.metas[last];
@@ -98,11 +107,14 @@ export class DescriptorIndex<M = unknown> {
 	}
 
 	private ensureCapacity(n: number): void {
-		if (n * D <= this.vectors.length) return;
+		if (n <= this.tails.length) return;
 		const capacity = Math.max(n, Math.ceil(this.metas.length * 1.5), 64);
-		const grown = new Float32Array(capacity * D);
-		grown.set(this.vectors.subarray(0, this.metas.length * D));
-		this.vectors = grown;
+		const heads = new Float32Array(capacity * HEAD);
+		heads.set(this.heads.subarray(0, this.metas.length * HEAD));
+		this.heads = heads;
+		const rests = new Float32Array(capacity * REST);
+		rests.set(this.rests.subarray(0, this.metas.length * REST));
+		this.rests = rests;
 		const conds = new Float64Array(capacity * 3);
 		conds.set(this.conds.subarray(0, this.metas.length * 3));
 		this.conds = conds;
@@ -125,7 +137,8 @@ export class DescriptorIndex<M = unknown> {
 		const q = Float32Array.from(query);
 		const near = new TopK(k);
 		const far = new TopK(k);
-		const v = this.vectors;
+		const hv = this.heads;
+		const rv = this.rests;
 		const cs = this.conds;
 		// Comparable: each of Vs, Rs, f within its tolerance as a ratio (conditionsComparable's rule,
 		// written as multiplications so the hot loop does no division and calls nothing).
@@ -142,20 +155,25 @@ export class DescriptorIndex<M = unknown> {
 			const comparable = sv <= qv * tv && qv <= sv * tv && sr <= qr * tr && qr <= sr * tr && sf <= qf * tf && qf <= sf * tf;
 			const heap = comparable ? near : far;
 			const bound = heap.bound;
-			const base = slot * D;
-			// The leading coefficients carry most of a curve's energy: check the bound after them
-			// first, then in blocks, and stop as soon as the partial sum passes it.
 			// Two noisy curves' tails are uncorrelated, so the exact squared distance is about the
 			// descriptor's plus both tails; the query's tail is the same for every trace and left out.
 			let s = this.tails[slot];
+			const hb = slot * HEAD;
 			for (let t = 0; t < BLOCK; t++) {
-				const d = v[base + t] - q[t];
+				const d = hv[hb + t] - q[t];
 				s += d * d;
 			}
-			for (let j = BLOCK; s < bound && j < D; j += BLOCK) {
-				for (let t = j; t < j + BLOCK; t++) {
-					const d = v[base + t] - q[t];
+			if (s < bound) {
+				for (let t = BLOCK; t < HEAD; t++) {
+					const d = hv[hb + t] - q[t];
 					s += d * d;
+				}
+				const rb = slot * REST;
+				for (let j = 0; s < bound && j < REST; j += BLOCK) {
+					for (let t = j; t < j + BLOCK; t++) {
+						const d = rv[rb + t] - q[HEAD + t];
+						s += d * d;
+					}
 				}
 			}
 			if (s < bound) heap.push(s, slot);
