@@ -77,17 +77,8 @@ export function linearCurve(
 	return toCanonical(v, i, conditions, { periods: 0, periodSpread: null, simulated: true });
 }
 
-/** Deterministic pseudo-random numbers (mulberry32), so randomised tests repeat exactly. */
-export function seededRandom(seed: number): () => number {
-	let a = seed >>> 0;
-	return () => {
-		a = (a + 0x6d2b79f5) >>> 0;
-		let t = a;
-		t = Math.imul(t ^ (t >>> 15), t | 1);
-		t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-		return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-	};
-}
+/** Deterministic pseudo-random numbers (mulberry32), shared with the capture synthesiser. */
+export { seededRandom } from './captures';
 
 /** Standard normal deviate (Box–Muller) from a uniform source. */
 export function gaussian(rand: () => number): number {

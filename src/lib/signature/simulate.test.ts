@@ -1,19 +1,11 @@
+import { seededRandom } from '../../../tests/support/captures';
 import { describe, expect, it } from 'vitest';
 import { SignatureError } from './errors';
 import { MODEL_LIMITS, parseModel, simulate, THERMAL_VOLTAGE, type SimulationStats } from './simulate';
 import type { CanonicalCurve, DeviceModel, TestConditions } from './types';
 
 // Seeded random numbers (mulberry32) so every run draws the same parts and conditions.
-function random(seed: number): () => number {
-	let a = seed >>> 0;
-	return () => {
-		a = (a + 0x6d2b79f5) >>> 0;
-		let t = a;
-		t = Math.imul(t ^ (t >>> 15), t | 1);
-		t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-		return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-	};
-}
+const random = seededRandom;
 
 function logUniform(rnd: () => number, lo: number, hi: number): number {
 	return Math.exp(Math.log(lo) + rnd() * (Math.log(hi) - Math.log(lo)));
