@@ -112,6 +112,54 @@ export const ORG_ROUTES: OrgRoute[] = [
 		request: (s, fx) => ({ path: `/o/${s}/tokens?/revoke`, body: { id: fx.tokenId } })
 	},
 	{ route: 'o/[org=slug]/audit', kind: 'page', method: 'GET', action: 'audit:read', request: (s) => ({ path: `/o/${s}/audit` }) },
+	{ route: 'o/[org=slug]/entries', kind: 'page', method: 'GET', action: 'entry:read', request: (s) => ({ path: `/o/${s}/entries?kind=diode` }) },
+	{
+		// The fixture entry is not deleted, so an allowed caller gets the "can no longer be restored" answer.
+		route: 'o/[org=slug]/entries',
+		kind: 'action',
+		name: 'restore',
+		method: 'POST',
+		status: 400,
+		action: 'entry:delete',
+		request: (s, fx) => ({ path: `/o/${s}/entries?/restore`, body: { id: fx.entryId } })
+	},
+	{ route: 'o/[org=slug]/entries/[id=uuid]', kind: 'page', method: 'GET', action: 'entry:read', request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}` }) },
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]',
+		kind: 'action',
+		name: 'transition',
+		method: 'POST',
+		action: 'entry:publish',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}?/transition`, body: { action: 'archive' } })
+	},
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]',
+		kind: 'action',
+		name: 'delete',
+		method: 'POST',
+		status: 303,
+		action: 'entry:delete',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}?/delete`, body: {} })
+	},
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/history',
+		kind: 'page',
+		method: 'GET',
+		action: 'entry:read',
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/history` })
+	},
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/history',
+		kind: 'action',
+		name: 'restore',
+		method: 'POST',
+		status: 303,
+		action: 'entry:editAny',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/history?/restore`, body: { restore: '1', version: '1' } })
+	},
 	{ route: 'api/v1/orgs/[org=slug]', kind: 'endpoint', method: 'GET', action: 'org:read', request: (s) => ({ path: `/api/v1/orgs/${s}` }) },
 	{
 		route: 'api/v1/orgs/[org=slug]/members',

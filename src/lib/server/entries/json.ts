@@ -22,6 +22,7 @@ export function entryJson(e: Entry) {
 		author: e.authorId ? { id: e.authorId, name: e.authorName } : null,
 		reviewerId: e.reviewerId,
 		reviewComment: e.reviewComment,
+		signatureClass: e.signatureClass,
 		createdAt: e.createdAt.toISOString(),
 		updatedAt: e.updatedAt.toISOString(),
 		submittedAt: e.submittedAt?.toISOString() ?? null,

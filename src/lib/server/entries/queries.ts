@@ -21,6 +21,8 @@ export interface Entry extends EntryFields {
 	publishedAt: Date | null;
 	viewCount: number;
 	helpedCount: number;
+	/** The engine's class of the entry's first fault trace, if it has one. */
+	signatureClass: string | null;
 }
 
 /** Who is asking, for visibility: viewers see published entries; contributors also their own. */
@@ -52,7 +54,7 @@ export function snapshotOf(entry: EntryFields): EntryFields {
 	return Object.fromEntries(EDITABLE.map((k) => [k, entry[k]])) as EntryFields;
 }
 
-function toEntry(row: Selectable<EntryRow> & { authorName: string | null }): Entry {
+function toEntry(row: Selectable<EntryRow> & { authorName: string | null; signatureClass: string | null }): Entry {
 	return {
 		id: row.id,
 		orgId: row.orgId,
@@ -79,7 +81,8 @@ function toEntry(row: Selectable<EntryRow> & { authorName: string | null }): Ent
 		submittedAt: row.submittedAt,
 		publishedAt: row.publishedAt,
 		viewCount: row.viewCount,
-		helpedCount: row.helpedCount
+		helpedCount: row.helpedCount,
+		signatureClass: row.signatureClass
 	};
 }
 
@@ -89,6 +92,11 @@ function baseQuery(db: Db, orgId: string) {
 		.selectAll('entry')
 		// "User" is an Auth.js table the camelCase plugin would misspell; raw SQL names it as it is.
 		.select(sql<string | null>`(select coalesce(u.name, u.email) from "User" u where u.id = entry.author_id)`.as('authorName'))
+		.select(
+			sql<string | null>`(select t.class from trace t where t.entry_id = entry.id and t.role = 'fault' order by t.created_at, t.id limit 1)`.as(
+				'signatureClass'
+			)
+		)
 		.where('entry.orgId', '=', orgId)
 		.where('entry.deletedAt', 'is', null);
 }
@@ -291,6 +299,26 @@ export async function restoreEntry(trx: Db, orgId: string, id: string, windowDay
 		.where('deletedAt', '>', sql<Date>`now() - make_interval(days => ${windowDays})`)
 		.executeTakeFirst();
 	return Number(r.numUpdatedRows) === 1;
+}
+
+/** The tags in use on entries the reader may see, most used first (for the table's filter). */
+export async function listEntryTags(db: Db, orgId: string, reader: Reader, limit = 200): Promise<{ tag: string; count: number }[]> {
+	const visible = visibleTo(baseQuery(db, orgId), reader).clearSelect().select('entry.tags');
+	const { rows } = await sql<{ tag: string; count: number }>`
+		select tag, count(*)::int as count
+		from (${visible}) as e, unnest(e.tags) as tag
+		group by tag order by count desc, tag limit ${limit}
+	`.execute(db);
+	return rows;
+}
+
+/** The writers of entries the reader may see (for the table's filter), by name. */
+export async function listEntryAuthors(db: Db, orgId: string, reader: Reader): Promise<{ id: string; name: string }[]> {
+	const visible = visibleTo(baseQuery(db, orgId), reader).clearSelect().select('entry.authorId').where('entry.authorId', 'is not', null).distinct();
+	const { rows } = await sql<{ id: string; name: string }>`
+		select u.id, coalesce(u.name, u.email) as name from "User" u where u.id in (${visible}) order by 2 limit 500
+	`.execute(db);
+	return rows;
 }
 
 /** Counts of entries waiting for review, for the authors' badge. */

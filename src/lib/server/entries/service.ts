@@ -9,6 +9,7 @@ import {
 	insertEntry,
 	insertRevision,
 	lockEntry,
+	restoreEntry,
 	setEntryStatus,
 	snapshotOf,
 	softDeleteEntry,
@@ -106,5 +107,14 @@ export async function deleteEntry(db: Kysely<Database>, member: MemberContext, i
 		const deleted = await softDeleteEntry(trx, member.orgId, id, member.userId);
 		if (deleted) await recordEntryChange(trx, member.orgId, id, 'delete');
 		return deleted;
+	});
+}
+
+/** Undoes a soft delete while the entry is inside the restore window; false when it is not. */
+export async function restoreDeletedEntry(db: Kysely<Database>, member: MemberContext, id: string): Promise<boolean> {
+	return db.transaction().execute(async (trx) => {
+		const restored = await restoreEntry(trx, member.orgId, id, RESTORE_WINDOW_DAYS);
+		if (restored) await recordEntryChange(trx, member.orgId, id, 'upsert');
+		return restored;
 	});
 }

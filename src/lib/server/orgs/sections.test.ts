@@ -3,16 +3,17 @@ import { orgSections } from './sections';
 
 describe('orgSections', () => {
 	// Which pages each role reaches follows the role table in DESIGN.md: members, invitations,
-	// organisation API tokens and the audit log are admin business; everyone sees the overview.
-	it('shows a viewer, a contributor and an author only the overview', () => {
+	// organisation API tokens and the audit log are admin business; everyone reads the entries.
+	it('shows a viewer, a contributor and an author only the overview and the entries', () => {
 		for (const role of ['viewer', 'contributor', 'author'] as const) {
-			expect(orgSections('bench', role).map((s) => s.label)).toEqual(['Overview']);
+			expect(orgSections('bench', role).map((s) => s.label)).toEqual(['Overview', 'Entries']);
 		}
 	});
 
 	it('shows an admin every section, under the organisation’s address', () => {
 		expect(orgSections('bench', 'admin')).toEqual([
 			{ href: '/o/bench', label: 'Overview' },
+			{ href: '/o/bench/entries', label: 'Entries' },
 			{ href: '/o/bench/members', label: 'Members' },
 			{ href: '/o/bench/invitations', label: 'Invitations' },
 			{ href: '/o/bench/tokens', label: 'API tokens' },

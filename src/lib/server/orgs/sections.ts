@@ -8,6 +8,7 @@ export interface OrgSection {
 /** The organisation's pages in navigation order, each with the action that opens it. */
 const SECTIONS: { path: string; label: string; action: Action }[] = [
 	{ path: '', label: 'Overview', action: 'org:read' },
+	{ path: '/entries', label: 'Entries', action: 'entry:read' },
 	{ path: '/members', label: 'Members', action: 'member:read' },
 	{ path: '/invitations', label: 'Invitations', action: 'invitation:manage' },
 	{ path: '/tokens', label: 'API tokens', action: 'orgToken:manage' },
