@@ -16,6 +16,10 @@ describe('analysis as text', () => {
 		expect(lines[2].value).toBe('620 mV');
 	});
 
+	it('leaves out an uncertainty too small to matter (below 0.1 % of the value)', () => {
+		expect(parameterLines({ parameters: { kneeV: { value: 0.584, unit: 'V', uncertainty: 2.3e-9 } } })[0].value).toBe('584 mV');
+	});
+
 	it('names a junction polarity by probe', () => {
 		expect(parameterLines({ parameters: { polarity: { value: 'anode-at-probe-1', unit: '' } } })[0].value).toBe('anode on the first probe');
 	});

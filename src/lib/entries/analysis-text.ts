@@ -27,7 +27,9 @@ export interface ParameterLine {
 function valueText(p: Exclude<Parameter, { unmeasurable: string }>): string {
 	if (typeof p.value === 'string') return p.value === 'anode-at-probe-1' ? 'anode on the first probe' : 'cathode on the first probe';
 	const main = formatSI(p.value, p.unit);
-	return p.uncertainty ? `${main} ± ${formatSI(p.uncertainty, p.unit, 2)}` : main;
+	// An uncertainty below 0.1 % of the value (a simulated curve's, say) says nothing a technician needs.
+	const telling = p.uncertainty !== undefined && p.uncertainty >= Math.abs(p.value) * 1e-3;
+	return telling ? `${main} ± ${formatSI(p.uncertainty!, p.unit, 2)}` : main;
 }
 
 /** The analysis's parameters as lines a technician reads, in a fixed order. */
