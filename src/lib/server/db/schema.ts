@@ -116,6 +116,13 @@ export interface Entry {
   viewCount: Generated<number>;
 }
 
+export interface EntryHelped {
+  createdAt: Generated<Timestamp>;
+  entryId: string;
+  orgId: string;
+  userId: string;
+}
+
 export interface EntryRevision {
   entryId: string;
   id: Generated<string>;
@@ -235,6 +242,7 @@ export interface DB {
   attachment: Attachment;
   auditLog: AuditLog;
   entry: Entry;
+  entryHelped: EntryHelped;
   entryRevision: EntryRevision;
   invitation: Invitation;
   membership: Membership;
