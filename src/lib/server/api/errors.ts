@@ -14,7 +14,8 @@ export type ApiErrorCode =
 	| 'last_admin'
 	| 'too_large'
 	| 'invalid_capture'
-	| 'invalid_transition';
+	| 'invalid_transition'
+	| 'search_unavailable';
 
 export interface ApiIssue {
 	path: string;

@@ -266,7 +266,17 @@ export interface EntryHit {
 	document: EntryDocument;
 	/** HTML-safe text with matches in <mark>…</mark>: the entry's own text is escaped. */
 	highlights: Partial<Record<HighlightedField, string | string[]>>;
+	/**
+	 * A short HTML-safe excerpt around the first match in the symptom, cause, fix or notes (in
+	 * that order), cut at word boundaries; null when the query matched none of them.
+	 */
+	snippet: { field: SnippetField; html: string } | null;
 }
+
+export const SNIPPET_FIELDS = ['symptom', 'cause', 'fix', 'body'] as const;
+export type SnippetField = (typeof SNIPPET_FIELDS)[number];
+/** About two lines of a result list on a phone. */
+export const SNIPPET_CHARS = 180;
 
 export interface EntrySearchResult {
 	hits: EntryHit[];
@@ -318,6 +328,41 @@ function withoutMarkers(doc: EntryDocument): EntryDocument {
 	return Object.fromEntries(Object.entries(doc).map(([k, v]) => [k, clean(v)])) as unknown as EntryDocument;
 }
 
+/**
+ * Crops marked text (markers still the control characters) to about `max` characters around its
+ * first match, at spaces, and balances the markers the cut may have split. Escaping comes after,
+ * so a cut can never split an entity or a tag.
+ */
+export function cropMarked(text: string, max = SNIPPET_CHARS): string {
+	const flat = text.replace(/\s+/g, ' ').trim();
+	const first = flat.indexOf(PRE);
+	if (first < 0 || flat.length <= max) return flat;
+	let start = Math.max(0, first - Math.floor(max / 3));
+	if (start > 0) {
+		const space = flat.indexOf(' ', start);
+		start = space >= 0 && space < first ? space + 1 : Math.min(start, first);
+	}
+	let end = Math.min(flat.length, start + max);
+	if (end < flat.length) {
+		const space = flat.lastIndexOf(' ', end);
+		if (space > flat.indexOf(POST, first)) end = space;
+	}
+	let out = flat.slice(start, end);
+	const lastPre = out.lastIndexOf(PRE);
+	if (lastPre > out.lastIndexOf(POST)) out += POST;
+	const firstPost = out.indexOf(POST);
+	if (firstPost >= 0 && (out.indexOf(PRE) < 0 || firstPost < out.indexOf(PRE))) out = PRE + out;
+	return `${start > 0 ? '…' : ''}${out}${end < flat.length ? '…' : ''}`;
+}
+
+function snippetOf(formatted: Record<string, unknown> | undefined): EntryHit['snippet'] {
+	for (const field of SNIPPET_FIELDS) {
+		const value = formatted?.[field];
+		if (typeof value === 'string' && value.includes(PRE)) return { field, html: markSafe(cropMarked(value)) };
+	}
+	return null;
+}
+
 function safeHighlight(value: unknown): string | string[] | undefined {
 	if (typeof value === 'string') return markSafe(value);
 	if (Array.isArray(value)) return value.filter((v): v is string => typeof v === 'string').map(markSafe);
@@ -353,7 +398,7 @@ export async function searchEntries(engine: SearchEngine, search: EntrySearch): 
 				const h = safeHighlight(_formatted?.[field]);
 				if (h !== undefined) highlights[field] = h;
 			}
-			return { document: document as EntryDocument, highlights };
+			return { document: document as EntryDocument, highlights, snippet: snippetOf(_formatted) };
 		}),
 		total: response.estimatedTotalHits ?? response.hits.length,
 		facets: (response.facetDistribution ?? {}) as EntrySearchResult['facets'],
