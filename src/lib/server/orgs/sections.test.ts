@@ -3,10 +3,11 @@ import { orgSections } from './sections';
 
 describe('orgSections', () => {
 	// Which pages each role reaches follows the role table in DESIGN.md: members, invitations,
-	// organisation API tokens and the audit log are admin business; everyone reads the entries.
-	it('shows a viewer, a contributor and an author only the overview and the entries', () => {
+	// organisation API tokens and the audit log are admin business; everyone reads the entries and
+	// searches them ("viewer … search").
+	it('shows a viewer, a contributor and an author only the overview, the entries and search', () => {
 		for (const role of ['viewer', 'contributor', 'author'] as const) {
-			expect(orgSections('bench', role).map((s) => s.label)).toEqual(['Overview', 'Entries']);
+			expect(orgSections('bench', role).map((s) => s.label)).toEqual(['Overview', 'Entries', 'Search']);
 		}
 	});
 
@@ -14,6 +15,7 @@ describe('orgSections', () => {
 		expect(orgSections('bench', 'admin')).toEqual([
 			{ href: '/o/bench', label: 'Overview' },
 			{ href: '/o/bench/entries', label: 'Entries' },
+			{ href: '/o/bench/search', label: 'Search' },
 			{ href: '/o/bench/members', label: 'Members' },
 			{ href: '/o/bench/invitations', label: 'Invitations' },
 			{ href: '/o/bench/tokens', label: 'API tokens' },

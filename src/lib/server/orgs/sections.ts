@@ -9,6 +9,7 @@ export interface OrgSection {
 const SECTIONS: { path: string; label: string; action: Action }[] = [
 	{ path: '', label: 'Overview', action: 'org:read' },
 	{ path: '/entries', label: 'Entries', action: 'entry:read' },
+	{ path: '/search', label: 'Search', action: 'search:run' },
 	{ path: '/members', label: 'Members', action: 'member:read' },
 	{ path: '/invitations', label: 'Invitations', action: 'invitation:manage' },
 	{ path: '/tokens', label: 'API tokens', action: 'orgToken:manage' },
