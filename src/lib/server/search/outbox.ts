@@ -209,11 +209,16 @@ export interface IndexLag {
 	lastError: string | null;
 }
 
-/** How far the index is behind, for an admin status line. Across organisations on purpose. */
-export async function indexLag(db: Kysely<Database>, now: Date = new Date()): Promise<IndexLag> {
+/**
+ * How far the index is behind, for an admin status line: one organisation's changes when `orgId`
+ * is given (what an organisation's admin is shown), otherwise across organisations on purpose
+ * (the operator's view).
+ */
+export async function indexLag(db: Kysely<Database>, now: Date = new Date(), orgId?: string): Promise<IndexLag> {
 	const row = await db
 		.selectFrom('searchOutbox')
 		.where('doneAt', 'is', null)
+		.$if(orgId !== undefined, (qb) => qb.where('orgId', '=', orgId!))
 		.select((eb) => [
 			eb.fn.countAll<string>().as('pending'),
 			eb.fn.count<string>('id').filterWhere('attempts', '>', 0).as('failing'),
@@ -224,6 +229,7 @@ export async function indexLag(db: Kysely<Database>, now: Date = new Date()): Pr
 		.selectFrom('searchOutbox')
 		.select('lastError')
 		.where('doneAt', 'is', null)
+		.$if(orgId !== undefined, (qb) => qb.where('orgId', '=', orgId!))
 		.where('lastError', 'is not', null)
 		.orderBy('id', 'desc')
 		.limit(1)

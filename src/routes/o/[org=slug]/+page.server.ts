@@ -4,6 +4,7 @@ import { can, ROLE_SUMMARIES } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
 import { countInReview, listEntries } from '$lib/server/entries/queries';
 import { readerFor } from '$lib/server/entries/rules';
+import { indexLag } from '$lib/server/search/outbox';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ params }) => {
@@ -15,6 +16,7 @@ export const load: PageServerLoad = async ({ params }) => {
 		mayWrite: can(member.role, 'entry:draft'),
 		mayAdminister: can(member.role, 'member:manage'),
 		inReview: can(member.role, 'entry:review') ? await countInReview(db, member.orgId) : null,
+		searchLag: can(member.role, 'org:settings') ? await indexLag(db, new Date(), member.orgId) : null,
 		recent: recent.entries.map((e) => ({
 			id: e.id,
 			title: e.title,
