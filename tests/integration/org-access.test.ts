@@ -2,6 +2,7 @@ import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { startMailStandin, type MailStandin } from '../../scripts/lib/mail-standin';
+import { startStandin, type Standin } from '../../search/standin/server';
 import { createApiToken } from '../../src/lib/server/auth/api-tokens';
 import { can, ROLES, type Role } from '../../src/lib/server/auth/permissions';
 import { createInvitation } from '../../src/lib/server/orgs/invitations';
@@ -17,6 +18,7 @@ import { type AppServer, call, type Caller, sessionFor, startAppServer } from '.
 const db = openTestDb();
 let app: AppServer;
 let mail: MailStandin;
+let search: Standin;
 
 const A = 'bench-alpha';
 const B = 'bench-bravo';
@@ -65,10 +67,13 @@ async function fixtureFor(route: OrgRoute): Promise<RouteFixture> {
 beforeAll(async () => {
 	await truncateAll(db);
 	mail = await startMailStandin();
+	search = await startStandin({ masterKey: 'route-test-search-key' });
 	app = await startAppServer({
 		DATABASE_URL: testDatabaseUrl(),
 		AUTH_SECRET: 'route-test-secret-that-is-long-enough-0123456789',
-		SMTP_URL: `smtp://127.0.0.1:${mail.smtpPort}`
+		SMTP_URL: `smtp://127.0.0.1:${mail.smtpPort}`,
+		MEILISEARCH_URL: search.url,
+		MEILISEARCH_KEY: 'route-test-search-key'
 	});
 	for (const role of ROLES) members[role] = await sessionFor(db, `${role}@alpha.example.com`, `Alpha ${role}`);
 	outsider = await sessionFor(db, 'admin@bravo.example.com', 'Bravo admin');
@@ -85,6 +90,7 @@ beforeAll(async () => {
 afterAll(async () => {
 	await app?.stop();
 	await mail?.close();
+	await search?.close();
 	await db.destroy();
 });
 

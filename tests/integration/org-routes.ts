@@ -241,6 +241,27 @@ export const ORG_ROUTES: OrgRoute[] = [
 		status: 204,
 		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/traces/${fx.traceId}` })
 	},
+	// Search, and the "this helped" mark (any reader of the entry may set or clear their own).
+	{ route: 'o/[org=slug]/search', kind: 'page', method: 'GET', action: 'search:run', request: (s) => ({ path: `/o/${s}/search?q=fixture` }) },
+	{ route: 'api/v1/orgs/[org=slug]/search', kind: 'endpoint', method: 'GET', action: 'search:run', request: (s) => ({ path: `/api/v1/orgs/${s}/search?q=fixture&kind=resistor` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]/helped',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'entry:read',
+		writes: true,
+		status: 200,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/helped`, body: { json: {} } })
+	},
+	{
+		route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]/helped',
+		kind: 'endpoint',
+		method: 'DELETE',
+		action: 'entry:read',
+		writes: true,
+		status: 200,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/helped` })
+	},
 	{
 		route: 'api/v1/orgs/[org=slug]/matches',
 		kind: 'endpoint',
