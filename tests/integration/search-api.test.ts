@@ -258,3 +258,13 @@ describe('this helped', () => {
 		expect(row.helpedCount).toBe(0);
 	});
 });
+
+describe('the index status line', () => {
+	it('tells an admin the index is up to date, and shows viewers nothing of it', async () => {
+		await drained();
+		// The author of these tests created organisation A, so they are its admin.
+		const home = await call(app, people.author, 'GET', `/o/${A}`);
+		expect(home.text).toContain('Search index: up to date');
+		expect((await call(app, people.viewer, 'GET', `/o/${A}`)).text).not.toContain('Search index');
+	});
+});

@@ -12,7 +12,7 @@ import { entryCreate } from '../../src/lib/schemas/entries';
 import type { MemberContext } from '../../src/lib/server/auth/member';
 import { ensureUser } from '../../src/lib/server/auth/users';
 import { allEntryDocuments, loadEntryDocuments } from '../../src/lib/server/entries/documents';
-import { setHelped } from '../../src/lib/server/entries/helped';
+import { recordEntryView, setHelped } from '../../src/lib/server/entries/helped';
 import { createEntry, deleteEntry, transitionEntry, updateEntry } from '../../src/lib/server/entries/service';
 import { createOrganisation } from '../../src/lib/server/orgs/members';
 import { createSearchEngine, ensureIndex, reindex, type SearchEngine } from '../../src/lib/server/search/engine';
@@ -92,6 +92,10 @@ describe('reindex', () => {
 		await transitionEntry(db, admin, entries[1].id, 'publish', '');
 		await setHelped(db, admin.orgId, entries[1].id, reader, true);
 		await deleteEntry(db, admin, entries[2].id);
+		expect(await recordEntryView(db, admin.orgId, entries[3].id)).toBe(true);
+		// Another organisation's id, or a deleted entry, counts nothing.
+		expect(await recordEntryView(db, '00000000-0000-4000-8000-000000000000', entries[3].id)).toBe(false);
+		expect(await recordEntryView(db, admin.orgId, entries[2].id)).toBe(false);
 		await drainOutbox(db, incremental, { loadDocuments: loaders.loadDocuments, batchSize: 2 });
 
 		const rebuilt = engineFor(`rebuilt_${randomBytes(4).toString('hex')}`);
@@ -102,5 +106,6 @@ describe('reindex', () => {
 		expect(await indexed(rebuilt)).toEqual(a);
 		expect(a.find((d) => d.id === entries[1].id)).toMatchObject({ status: 'published', helpedCount: 1 });
 		expect(a.find((d) => d.id === entries[0].id)).toMatchObject({ title: 'Leaky cap, edited', tags: ['leaky'] });
+		expect(a.find((d) => d.id === entries[3].id)).toMatchObject({ views: 1 });
 	});
 });
