@@ -473,7 +473,12 @@ export class StandinIndex {
 		return { combineWith: 'OR', queries: [exact, { queries: [word], prefix, fuzzy: budget, fields: tolerant }] };
 	}
 
-	private matchText(q: string, prefixLast: boolean): Map<string, Hit> {
+	/**
+	 * Documents matching the text, restricted to those `keep` accepts (the request's filter). The
+	 * filter is applied as results arrive, once per document, so the documents it rejects (another
+	 * organisation's, say) cost no bookkeeping; the outcome is the same as filtering afterwards.
+	 */
+	private matchText(q: string, prefixLast: boolean, keep: (doc: Doc) => boolean = () => true): Map<string, Hit> {
 		const mini = this.index();
 		const fields = this.miniFields;
 		const n = fields.length;
@@ -481,6 +486,7 @@ export class StandinIndex {
 		const boost = Object.fromEntries(fields.map((f, i) => [f, 1 + 2 * (n - 1 - i) / Math.max(1, n - 1)]));
 		const groups = this.queryGroups(q);
 		const hits = new Map<string, Hit>();
+		const rejected = new Set<string>();
 		groups.forEach((group, gi) => {
 			const last = gi === groups.length - 1;
 			const query: Query = {
@@ -496,8 +502,13 @@ export class StandinIndex {
 			const results: SearchResult[] = mini.search(query, { boost, fields });
 			for (const r of results) {
 				const id = r.id as string;
+				if (rejected.has(id)) continue;
 				const stored = this.docs.get(id);
 				if (!stored) continue;
+				if (!hits.has(id) && !keep(stored.doc)) {
+					rejected.add(id);
+					continue;
+				}
 				const hit = hits.get(id) ?? { id, doc: stored.doc, seq: stored.seq, words: 0, score: 0, terms: new Set<string>() };
 				hit.words++;
 				hit.score += r.score;
@@ -568,11 +579,10 @@ export class StandinIndex {
 			hits = [];
 			for (const [id, { seq, doc }] of this.docs) if (matchesFilter(filter, doc)) hits.push({ id, doc, seq, words: 0, score: 0, terms: NO_TERMS });
 		} else {
-			const matched = this.matchText(q, !/\s$/.test(q));
+			const matched = this.matchText(q, !/\s$/.test(q), (doc) => matchesFilter(filter, doc));
 			const groups = this.queryGroups(q).length;
 			hits = [...matched.values()];
 			if (strategy === 'all') hits = hits.filter((h) => h.words === groups);
-			hits = hits.filter((h) => matchesFilter(filter, h.doc));
 		}
 
 		const facetNames = facets.includes('*') ? this.settings.filterableAttributes : facets;
