@@ -4,6 +4,7 @@ import { requireMember } from '$lib/server/auth/guard';
 import { can } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
 import { entryJson, traceJson } from '$lib/server/entries/json';
+import { helpedState, recordEntryView } from '$lib/server/entries/helped';
 import { findEntry } from '$lib/server/entries/queries';
 import { checkTransition, mayEdit, readerFor, TRANSITION_MESSAGES } from '$lib/server/entries/rules';
 import { deleteEntry, transitionEntry } from '$lib/server/entries/service';
@@ -11,10 +12,14 @@ import { renderMarkdown } from '$lib/server/markdown';
 import { findTraceCurves, listEntryTraces } from '$lib/server/traces/service';
 import type { Actions, PageServerLoad } from './$types';
 
-export const load: PageServerLoad = async ({ params, url }) => {
+export const load: PageServerLoad = async ({ params, url, request }) => {
 	const member = await requireMember(params.org, 'entry:read');
-	const entry = await findEntry(db, member.orgId, params.id, readerFor(member));
+	const reader = readerFor(member);
+	const entry = await findEntry(db, member.orgId, params.id, reader);
 	if (!entry) error(404, 'Not found');
+	// A view is a reader opening the page, not the page re-rendering after one of its forms.
+	if (request.method === 'GET') await recordEntryView(db, member.orgId, entry.id);
+	const helped = (await helpedState(db, member.orgId, entry.id, reader)) ?? { helped: false, helpedCount: entry.helpedCount };
 	const traces = await listEntryTraces(db, member.orgId, entry.id);
 	const curves = await findTraceCurves(
 		db,
@@ -31,6 +36,7 @@ export const load: PageServerLoad = async ({ params, url }) => {
 			const c = curves.get(t.id);
 			return { ...traceJson(t), curve: c ? { v: c.v, i: c.i } : null };
 		}),
+		helped,
 		mayEdit: mayEdit(member, entry),
 		mayDelete: can(member.role, 'entry:delete'),
 		transitions,
