@@ -36,3 +36,12 @@ test('an entry shows its plot, its analysis and a text summary of the plot', asy
 	await expect(page.getByRole('heading', { name: 'History' })).toBeVisible();
 	await expect(page.getByTestId('revision-list').getByRole('listitem')).toHaveCount(1);
 });
+
+test('the entry table is a card list on a 390 px phone, and nothing scrolls sideways', async ({ page }) => {
+	await page.setViewportSize({ width: 390, height: 800 });
+	await signIn(page, 'pim.contributor@fernhollow.example', { redirectTo: '/o/fernhollow/entries?kind=diode' });
+	await expect(page.getByTestId('entry-cards').getByRole('listitem').first()).toBeVisible();
+	await expect(page.getByTestId('entry-table')).toBeHidden();
+	// The top bar (sections, organisation switcher, account menu) must fit as well as the list.
+	expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+});
