@@ -13,6 +13,8 @@ import { entryCreate } from '../../src/lib/schemas/entries';
 import { createEntry, transitionEntry } from '../../src/lib/server/entries/service';
 import { insertTrace, processSimulation } from '../../src/lib/server/traces/service';
 import { openTestDb, testDatabaseUrl, truncateAll } from './setup-db';
+import { addPhoto } from '../../src/lib/server/attachments/service';
+import { checkedUpload } from '../../src/lib/server/attachments/upload';
 import { type AppServer, call, type Caller, sessionFor, startAppServer } from './support/app-server';
 
 const db = openTestDb();
@@ -54,7 +56,12 @@ async function freshFixture(): Promise<RouteFixture> {
 		createdBy: admin.userId,
 		processed: processSimulation({ kind: 'resistor', ohms: 2200 }, { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 })
 	});
-	return { victimUserId: victim.userId, invitationId: inv.id, freshEmail: `fresh${n}@example.com`, tokenId: token.id, entryId: entry.id, traceId };
+	const photo = checkedUpload('board.png', new Uint8Array(readFileSync('tests/fixtures/photos/board-64x48.png')));
+	if (!photo.ok) throw new Error(photo.message);
+	const added = await addPhoto(db, admin, entry.id, photo);
+	if (added.kind !== 'saved') throw new Error(added.kind);
+	const photoId = added.photo.id;
+	return { victimUserId: victim.userId, invitationId: inv.id, freshEmail: `fresh${n}@example.com`, tokenId: token.id, entryId: entry.id, traceId, photoId };
 }
 
 let shared: RouteFixture | undefined;

@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import type { Action } from '../../src/lib/server/auth/permissions';
 
 /**
@@ -20,7 +21,7 @@ export interface OrgRoute {
 	action: Action;
 	/** Writes something when allowed: the matrix gives each allowed call fresh data. */
 	writes?: boolean;
-	request: (slug: string, fx: RouteFixture) => { path: string; body?: Record<string, string> | { json: unknown } };
+	request: (slug: string, fx: RouteFixture) => { path: string; body?: Record<string, string> | { json: unknown } | FormData };
 }
 
 /** Ids a request may refer to, made fresh by the test before each call that writes. */
@@ -37,7 +38,32 @@ export interface RouteFixture {
 	entryId: string;
 	/** Its fault trace. */
 	traceId: string;
+	/** A photo of that entry. */
+	photoId: string;
 }
+
+/** A small PNG (written by a browser's canvas encoder) as a file upload in the field `photo`. */
+function photoForm(): FormData {
+	const form = new FormData();
+	form.set('photo', new File([new Uint8Array(readFileSync('tests/fixtures/photos/board-64x48.png'))], 'board.png', { type: 'image/png' }));
+	return form;
+}
+
+/** A bundle as the import form sends it: the file in `bundle`. */
+function bundleForm(bundle: unknown): FormData {
+	const form = new FormData();
+	form.set('bundle', new File([JSON.stringify(bundle)], 'bundle.json', { type: 'application/json' }));
+	return form;
+}
+
+/** The smallest valid bundle: no entries (imports nothing, reports so). */
+const EMPTY_BUNDLE = {
+	format: 'curvelore-bundle',
+	version: 1,
+	exportedAt: '2026-12-01T00:00:00.000Z',
+	source: { organisation: { slug: 'elsewhere', name: 'Elsewhere' }, scope: 'organisation' },
+	entries: []
+};
 
 /** A small bench capture as JSON samples: a 2.2 kΩ resistor at 10 V · 1 kΩ (Ohm's law), 4 periods. */
 function resistorCapture() {
@@ -261,6 +287,66 @@ export const ORG_ROUTES: OrgRoute[] = [
 		writes: true,
 		status: 200,
 		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/helped` })
+	},
+	// Photos follow their entry: read with it; changing another's published entry takes editAny.
+	{ route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]/photos', kind: 'endpoint', method: 'GET', action: 'entry:read', request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/photos` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/entries/[id=uuid]/photos',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'entry:editAny',
+		writes: true,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/photos`, body: photoForm() })
+	},
+	{ route: 'api/v1/orgs/[org=slug]/photos/[photo=uuid]', kind: 'endpoint', method: 'GET', action: 'entry:read', request: (s, fx) => ({ path: `/api/v1/orgs/${s}/photos/${fx.photoId}` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/photos/[photo=uuid]',
+		kind: 'endpoint',
+		method: 'DELETE',
+		action: 'entry:editAny',
+		writes: true,
+		status: 204,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/photos/${fx.photoId}` })
+	},
+	{ route: 'o/[org=slug]/entries/[id=uuid]/photos', kind: 'page', method: 'GET', action: 'entry:draft', request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/photos` }) },
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/photos',
+		kind: 'action',
+		name: 'upload',
+		method: 'POST',
+		action: 'entry:editAny',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/photos?/upload`, body: photoForm() })
+	},
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/photos',
+		kind: 'action',
+		name: 'delete',
+		method: 'POST',
+		action: 'entry:editAny',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/photos?/delete`, body: { photoId: fx.photoId } })
+	},
+	// Export and import. One entry's bundle is an author's; the whole organisation's is an admin's.
+	{ route: 'api/v1/orgs/[org=slug]/export', kind: 'endpoint', method: 'GET', action: 'entry:export', request: (s, fx) => ({ path: `/api/v1/orgs/${s}/export?entry=${fx.entryId}` }) },
+	{
+		route: 'api/v1/orgs/[org=slug]/import',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'org:settings',
+		writes: true,
+		status: 200,
+		request: (s) => ({ path: `/api/v1/orgs/${s}/import`, body: { json: EMPTY_BUNDLE } })
+	},
+	{ route: 'o/[org=slug]/transfer', kind: 'page', method: 'GET', action: 'org:settings', request: (s) => ({ path: `/o/${s}/transfer` }) },
+	{
+		route: 'o/[org=slug]/transfer',
+		kind: 'action',
+		name: 'import',
+		method: 'POST',
+		action: 'org:settings',
+		writes: true,
+		request: (s) => ({ path: `/o/${s}/transfer?/import`, body: bundleForm(EMPTY_BUNDLE) })
 	},
 	{
 		route: 'api/v1/orgs/[org=slug]/matches',

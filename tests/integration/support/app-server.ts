@@ -99,13 +99,17 @@ export async function call(
 	who: Caller,
 	method: string,
 	path: string,
-	body?: Record<string, string> | { json: unknown }
+	body?: Record<string, string> | { json: unknown } | FormData
 ): Promise<Reply> {
 	const headers: Record<string, string> = { origin: app.url };
 	if (who.cookie) headers.cookie = who.cookie;
 	if (who.bearer) headers.authorization = `Bearer ${who.bearer}`;
-	let payload: string | undefined;
-	if (body && 'json' in body) {
+	let payload: string | FormData | undefined;
+	if (body instanceof FormData) {
+		// A file upload: a form post to a page, or a script's multipart call to the API.
+		headers.accept = path.startsWith('/api/') ? 'application/json' : 'text/html,application/xhtml+xml';
+		payload = body;
+	} else if (body && 'json' in body) {
 		headers['content-type'] = 'application/json';
 		payload = JSON.stringify(body.json);
 	} else if (body) {

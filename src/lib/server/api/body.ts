@@ -5,8 +5,16 @@ import { error } from '@sveltejs/kit';
  * after — so an oversized upload costs neither memory nor a database write.
  */
 export async function readBodyLimited(request: Request, maxBytes: number): Promise<Uint8Array<ArrayBuffer>> {
+	return (await readBodyWithin(request, maxBytes)) ?? tooLarge(maxBytes);
+}
+
+/**
+ * The body, or undefined as soon as it passes `maxBytes` (the rest is not read), for callers that
+ * answer an oversized upload themselves (form actions, which must not throw an error page).
+ */
+export async function readBodyWithin(request: Request, maxBytes: number): Promise<Uint8Array<ArrayBuffer> | undefined> {
 	const declared = Number(request.headers.get('content-length') ?? NaN);
-	if (declared > maxBytes) tooLarge(maxBytes);
+	if (declared > maxBytes) return undefined;
 	const reader = request.body?.getReader();
 	if (!reader) return new Uint8Array(0);
 	const chunks: Uint8Array[] = [];
@@ -17,7 +25,7 @@ export async function readBodyLimited(request: Request, maxBytes: number): Promi
 		total += value.byteLength;
 		if (total > maxBytes) {
 			await reader.cancel();
-			tooLarge(maxBytes);
+			return undefined;
 		}
 		chunks.push(value);
 	}

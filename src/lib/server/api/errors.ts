@@ -15,7 +15,9 @@ export type ApiErrorCode =
 	| 'too_large'
 	| 'invalid_capture'
 	| 'invalid_transition'
-	| 'search_unavailable';
+	| 'search_unavailable'
+	| 'invalid_photo'
+	| 'invalid_bundle';
 
 export interface ApiIssue {
 	path: string;

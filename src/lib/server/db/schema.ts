@@ -71,9 +71,11 @@ export interface Attachment {
   data: Buffer;
   entryId: string;
   fileName: string;
+  height: number | null;
   id: Generated<string>;
   orgId: string;
   sha256: string;
+  width: number | null;
 }
 
 export interface AuditLog {

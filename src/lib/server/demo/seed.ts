@@ -2,6 +2,7 @@ import type { Kysely } from 'kysely';
 import { ensureUser } from '../auth/users';
 import type { Database } from '../db/connect';
 import { seedDemoEntries } from './entries';
+import { seedDemoPhotos } from './photos';
 
 /**
  * Demo data: an invented repair depot. Everything here is made up for the demo — the
@@ -49,6 +50,7 @@ export async function seedDemo(db: Kysely<Database>): Promise<boolean> {
 			.execute();
 		const byRole = Object.fromEntries(users.map((u) => [u.role, u.id])) as Record<(typeof DEMO_USERS)[number]['role'], string>;
 		await seedDemoEntries(trx, organisation.id, byRole);
+		await seedDemoPhotos(trx, { id: organisation.id, slug: DEMO_ORGANISATION.slug }, byRole.author);
 		await trx
 			.insertInto('appMeta')
 			.values({ key: 'demo_seeded_at', value: JSON.stringify(new Date().toISOString()) })

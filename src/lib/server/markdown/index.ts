@@ -28,8 +28,8 @@ import { allowedImageSrc, classifyHref } from './url-policy';
 
 export interface MarkdownOptions {
 	/**
-	 * Root-relative path under which the organisation's attachments live, e.g.
-	 * `/o/fernhollow/attachments/`. Images elsewhere (other sites, data: URLs, other
+	 * Root-relative path under which the organisation's photos live: `photoUrlPrefix(org)` from
+	 * `$lib/photos/urls`, e.g. `/api/v1/orgs/fernhollow/photos/`. Images elsewhere (other sites, data: URLs, other
 	 * organisations) are shown as their alt text. Without a prefix no image is shown.
 	 */
 	attachmentPrefix?: string;

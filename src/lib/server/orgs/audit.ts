@@ -14,7 +14,8 @@ export type AuditAction =
 	| 'invitation.revoked'
 	| 'invitation.accepted'
 	| 'token.created'
-	| 'token.revoked';
+	| 'token.revoked'
+	| 'bundle.imported';
 
 export interface AuditEntry {
 	id: string;

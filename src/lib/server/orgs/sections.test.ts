@@ -19,7 +19,8 @@ describe('orgSections', () => {
 			{ href: '/o/bench/members', label: 'Members' },
 			{ href: '/o/bench/invitations', label: 'Invitations' },
 			{ href: '/o/bench/tokens', label: 'API tokens' },
-			{ href: '/o/bench/audit', label: 'Audit log' }
+			{ href: '/o/bench/audit', label: 'Audit log' },
+			{ href: '/o/bench/transfer', label: 'Export & import' }
 		]);
 	});
 });

@@ -13,7 +13,8 @@ const SECTIONS: { path: string; label: string; action: Action }[] = [
 	{ path: '/members', label: 'Members', action: 'member:read' },
 	{ path: '/invitations', label: 'Invitations', action: 'invitation:manage' },
 	{ path: '/tokens', label: 'API tokens', action: 'orgToken:manage' },
-	{ path: '/audit', label: 'Audit log', action: 'audit:read' }
+	{ path: '/audit', label: 'Audit log', action: 'audit:read' },
+	{ path: '/transfer', label: 'Export & import', action: 'org:settings' }
 ];
 
 /** The sections of `/o/<slug>` a member with `role` may open; the navigation shows only these. */

@@ -54,16 +54,27 @@ export function processCapture(bytes: Uint8Array, upload: TraceUpload): Processe
 /** A simulated known-good reference: the predicted curve of a model at these conditions. */
 export function processSimulation(model: DeviceModel, conditions: TestConditions): ProcessedTrace {
 	const curve = simulate(model, conditions);
+	return processCurve(curve, { sampleCount: curve.v.length });
+}
+
+/**
+ * A canonical curve that is already known (one carried in an import bundle), analysed here as
+ * every other trace is: the analysis and descriptors are always this server's own.
+ */
+export function processCurve(
+	curve: CanonicalCurve,
+	extra: { sampleCount: number; senseOhm?: number | null; format?: string | null; warnings?: string[] }
+): ProcessedTrace {
 	const analysis = analyse(curve);
 	return {
-		conditions,
-		senseOhm: null,
-		format: null,
-		sampleCount: curve.v.length,
+		conditions: curve.conditions,
+		senseOhm: extra.senseOhm ?? null,
+		format: extra.format ?? null,
+		sampleCount: extra.sampleCount,
 		curve,
 		analysis,
 		...descriptors(curve),
-		warnings: analysis.warnings
+		warnings: [...new Set([...(extra.warnings ?? []), ...analysis.warnings])]
 	};
 }
 

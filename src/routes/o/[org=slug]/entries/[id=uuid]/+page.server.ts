@@ -9,6 +9,7 @@ import { findEntry } from '$lib/server/entries/queries';
 import { checkTransition, mayEdit, readerFor, TRANSITION_MESSAGES } from '$lib/server/entries/rules';
 import { deleteEntry, transitionEntry } from '$lib/server/entries/service';
 import { renderMarkdown } from '$lib/server/markdown';
+import { photoUrlPrefix } from '$lib/photos/urls';
 import { findTraceCurves, listEntryTraces } from '$lib/server/traces/service';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -27,7 +28,7 @@ export const load: PageServerLoad = async ({ params, url, request }) => {
 		traces.map((t) => t.id)
 	);
 	// Markdown is rendered and sanitised here, on every output; stored text is never trusted as HTML.
-	const md = (text: string) => (text.trim() ? renderMarkdown(text, { attachmentPrefix: `/api/v1/orgs/${member.orgSlug}/photos/` }) : '');
+	const md = (text: string) => (text.trim() ? renderMarkdown(text, { attachmentPrefix: photoUrlPrefix(member.orgSlug) }) : '');
 	const transitions = ENTRY_TRANSITIONS.filter((t) => checkTransition(member, entry, t, 'comment').ok);
 	return {
 		entry: entryJson(entry),
