@@ -6,11 +6,13 @@ import { traceJson } from '$lib/server/entries/json';
 import { findEntry } from '$lib/server/entries/queries';
 import { mayEdit, readerFor } from '$lib/server/entries/rules';
 import { deleteTrace, findTrace, insertTrace, listEntryTraces, MAX_TRACE_BYTES } from '$lib/server/traces/service';
-import { readCaptureUpload } from '$lib/server/traces/upload';
+import { MAX_UPLOAD_BYTES, readCaptureUpload } from '$lib/server/traces/upload';
 import { uuid } from '$lib/schemas/traces';
 import type { Actions, PageServerLoad } from './$types';
 
 /** The fields a failed upload sends back into the form (never the file: browsers cannot refill it). */
+const TOO_LARGE = `The upload is larger than ${Math.round(MAX_UPLOAD_BYTES / 1024 / 1024)} MB. Export fewer periods or a lower sample rate, then choose the file again.`;
+
 const KEPT_FIELDS = ['role', 'label', 'sourcePeakV', 'sourceResistanceOhm', 'frequencyHz', 'senseOhm'] as const;
 
 async function editableEntry(member: Awaited<ReturnType<typeof requireMember>>, id: string) {
@@ -32,15 +34,17 @@ export const actions: Actions = {
 	upload: async ({ params, request }) => {
 		const member = await requireMember(params.org, 'trace:upload');
 		const entry = await editableEntry(member, params.id);
+		const tooLarge = (message: string) => fail(413, { values: {}, error: { code: 'too_large', message, line: null }, fieldErrors: { file: [message] } });
+		// Refuse a declared oversize before copying the stream: a copy nobody reads would hold it open.
+		if (Number(request.headers.get('content-length') ?? NaN) > MAX_UPLOAD_BYTES) return tooLarge(TOO_LARGE);
+		// A copy of the body, read only when the upload is refused, to send the typed fields back.
 		const copy = request.clone();
 		let read: Awaited<ReturnType<typeof readCaptureUpload>>;
 		try {
 			read = await readCaptureUpload(request);
 		} catch (e) {
 			await copy.body?.cancel();
-			if (isHttpError(e) && e.status === 413) {
-				return fail(413, { values: {}, error: { code: 'too_large', message: e.body.message, line: null }, fieldErrors: { file: [e.body.message] } });
-			}
+			if (isHttpError(e) && e.status === 413) return tooLarge(e.body.message);
 			throw e;
 		}
 		if (!read.ok) {
