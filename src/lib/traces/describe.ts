@@ -47,5 +47,7 @@ export function parameterLines(a: Pick<Analysis, 'parameters'>): { name: string;
 
 /** The fit residual as a percentage of full scale, e.g. "0.4 %". */
 export function formatResidual(residual: number): string {
-	return `${Number((residual * 100).toPrecision(2))} % of full scale`;
+	const percent = residual * 100;
+	if (percent < 0.01) return 'under 0.01 % of full scale';
+	return `${Number(percent.toPrecision(2))} % of full scale`;
 }
