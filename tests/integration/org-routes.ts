@@ -257,6 +257,27 @@ export const ORG_ROUTES: OrgRoute[] = [
 		writes: true,
 		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/entries/${fx.entryId}/traces`, body: { json: resistorCapture() } })
 	},
+	// Adding traces without JavaScript. The matrix posts url-encoded fields without a file, so an
+	// allowed caller gets past the guard to the form's own refusal (400, "Choose a capture file").
+	{ route: 'o/[org=slug]/entries/[id=uuid]/traces/new', kind: 'page', method: 'GET', action: 'entry:editAny', request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/traces/new` }) },
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/traces/new',
+		kind: 'action',
+		name: 'upload',
+		method: 'POST',
+		action: 'entry:editAny',
+		status: 400,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/traces/new?/upload`, body: { role: 'fault', sourcePeakV: '10', sourceResistanceOhm: '1000', frequencyHz: '60' } })
+	},
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/traces/new',
+		kind: 'action',
+		name: 'delete',
+		method: 'POST',
+		action: 'entry:editAny',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/traces/new?/delete`, body: { traceId: fx.traceId } })
+	},
 	{ route: 'api/v1/orgs/[org=slug]/traces/[trace=uuid]', kind: 'endpoint', method: 'GET', action: 'trace:read', request: (s, fx) => ({ path: `/api/v1/orgs/${s}/traces/${fx.traceId}?view=canonical` }) },
 	{
 		route: 'api/v1/orgs/[org=slug]/traces/[trace=uuid]',

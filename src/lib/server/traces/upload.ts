@@ -5,7 +5,7 @@ import { formDataOf, readBodyLimited } from '../api/body';
 import { MAX_TRACE_BYTES, processCapture, type ProcessedTrace } from './service';
 
 /** Room for the form fields around the largest capture file. */
-const MAX_UPLOAD_BYTES = MAX_TRACE_BYTES + 64 * 1024;
+export const MAX_UPLOAD_BYTES = MAX_TRACE_BYTES + 64 * 1024;
 
 export type UploadResult =
 	| {

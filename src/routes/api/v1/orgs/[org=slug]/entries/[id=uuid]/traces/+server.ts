@@ -7,7 +7,9 @@ import { findEntry } from '$lib/server/entries/queries';
 import { mayEdit, readerFor } from '$lib/server/entries/rules';
 import { recordEntryChange } from '$lib/server/entries/changes';
 import { findTrace, insertTrace, listEntryTraces } from '$lib/server/traces/service';
-import { readCaptureUpload } from '$lib/server/traces/upload';
+import { readSimulationUpload } from '$lib/server/traces/simulation';
+import { MAX_UPLOAD_BYTES, readCaptureUpload } from '$lib/server/traces/upload';
+import { readBodyLimited } from '$lib/server/api/body';
 import type { RequestHandler } from './$types';
 
 function notFound(): never {
@@ -22,25 +24,44 @@ export const GET: RequestHandler = async ({ params }) => {
 };
 
 /**
+ * A JSON body with `simulate: { model }` (and the conditions) asks for a simulated known-good
+ * reference instead of a capture; anything else goes to the capture reader unchanged.
+ */
+async function readSimulationRequest(request: Request): Promise<{ simulation: ReturnType<typeof readSimulationUpload> } | { request: Request }> {
+	if (!(request.headers.get('content-type') ?? '').startsWith('application/json')) return { request };
+	const body = await readBodyLimited(request, MAX_UPLOAD_BYTES);
+	let parsed: unknown;
+	try {
+		parsed = JSON.parse(new TextDecoder().decode(body));
+	} catch {
+		parsed = undefined;
+	}
+	if (parsed && typeof parsed === 'object' && 'simulate' in parsed) return { simulation: readSimulationUpload(parsed) };
+	return { request: new Request(request.url, { method: 'POST', headers: request.headers, body }) };
+}
+
+/**
  * Uploads a capture to the entry: the server parses and analyses it again (it is the authority),
- * then stores the trace, the original file and the analysis in one transaction.
+ * then stores the trace, the original file and the analysis in one transaction. With
+ * `simulate: { model }` in a JSON body it stores the model's predicted curve instead, as a
+ * simulated known-good reference.
  */
 export const POST: RequestHandler = async ({ params, request }) => {
 	const member = await requireMember(params.org, 'trace:upload');
 	const entry = await findEntry(db, member.orgId, params.id, readerFor(member));
 	if (!entry) notFound();
 	if (!mayEdit(member, entry)) return apiError(403, 'forbidden', 'Your role does not allow adding traces to this entry in its current state.');
-	const read = await readCaptureUpload(request);
+	const incoming = await readSimulationRequest(request);
+	const read = 'simulation' in incoming ? incoming.simulation : await readCaptureUpload(incoming.request);
 	if (!read.ok) return read.response;
 	const id = await db.transaction().execute(async (trx) => {
-		const traceId = await insertTrace(trx, member.orgId, {
-			entryId: entry.id,
-			role: read.upload.role,
-			label: read.upload.label,
-			createdBy: member.userId,
-			processed: read.processed,
-			file: read.file
-		});
+		const traceId = await insertTrace(
+			trx,
+			member.orgId,
+			'model' in read
+				? { entryId: entry.id, role: 'known-good', label: read.label, createdBy: member.userId, processed: read.processed, model: read.model }
+				: { entryId: entry.id, role: read.upload.role, label: read.upload.label, createdBy: member.userId, processed: read.processed, file: read.file }
+		);
 		await recordEntryChange(trx, member.orgId, entry.id, 'upsert');
 		return traceId;
 	});
