@@ -54,7 +54,20 @@ async function freshFixture(): Promise<RouteFixture> {
 		createdBy: admin.userId,
 		processed: processSimulation({ kind: 'resistor', ohms: 2200 }, { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 })
 	});
-	return { victimUserId: victim.userId, invitationId: inv.id, freshEmail: `fresh${n}@example.com`, tokenId: token.id, entryId: entry.id, traceId };
+	const contributor = { ...admin, userId: members.contributor.userId, role: 'contributor' as const };
+	const draft = await createEntry(db, contributor, entryCreate.parse({ title: `Draft ${n}`, componentKind: 'diode', symptom: 'Fixture draft' }));
+	const submitted = await createEntry(db, contributor, entryCreate.parse({ title: `Submitted ${n}`, componentKind: 'diode', symptom: 'Fixture submission' }));
+	await transitionEntry(db, contributor, submitted.id, 'submit', '');
+	return {
+		victimUserId: victim.userId,
+		invitationId: inv.id,
+		freshEmail: `fresh${n}@example.com`,
+		tokenId: token.id,
+		entryId: entry.id,
+		traceId,
+		draftEntryId: draft.id,
+		reviewEntryId: submitted.id
+	};
 }
 
 let shared: RouteFixture | undefined;

@@ -177,3 +177,26 @@ export const matchOptions = z.object({
 	/** Keep the capture as a query trace, to attach to a new entry later. */
 	save: checkbox
 });
+
+/** The Markdown fields of an entry, which the editor previews as the server will render them. */
+export const PREVIEW_FIELDS = ['symptom', 'symptomDetail', 'cause', 'fix', 'body'] as const;
+export type PreviewField = (typeof PREVIEW_FIELDS)[number];
+
+/** A preview request: any of the entry's Markdown fields, each within its stored limit. */
+export const markdownPreview = z.object({
+	symptom: z.string().max(LIMITS.symptom, `Keep the symptom to ${LIMITS.symptom} characters or fewer.`).optional(),
+	symptomDetail: z.string().max(LIMITS.markdown, `Keep the symptom detail to ${LIMITS.markdown} characters or fewer.`).optional(),
+	cause: z.string().max(LIMITS.markdown, `Keep the root cause to ${LIMITS.markdown} characters or fewer.`).optional(),
+	fix: z.string().max(LIMITS.markdown, `Keep the fix to ${LIMITS.markdown} characters or fewer.`).optional(),
+	body: z.string().max(LIMITS.body, `Keep the notes to ${LIMITS.body} characters or fewer.`).optional()
+});
+export type MarkdownPreview = z.infer<typeof markdownPreview>;
+/** The preview endpoint's answer: the same keys, as sanitised HTML. */
+export type RenderedParts = Partial<Record<PreviewField, string>>;
+
+/** Sending an entry back to its writer needs a reason. */
+export const entryReturn = z.object({
+	id: z.uuid({ error: 'That entry no longer exists.' }),
+	comment: required(LIMITS.comment, 'what should change')
+});
+export const entryRef = z.object({ id: z.uuid({ error: 'That entry no longer exists.' }) });
