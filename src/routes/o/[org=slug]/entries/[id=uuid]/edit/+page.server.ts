@@ -98,6 +98,7 @@ export const actions: Actions = {
 			if (result.reason === 'forbidden') error(403, TRANSITION_MESSAGES.forbidden);
 			return fail(409, { message: TRANSITION_MESSAGES[result.reason] });
 		}
-		redirect(303, `/o/${saved.member.orgSlug}/entries/${params.id}/edit?submitted=${result.mail?.sent ?? 0}`);
+		const unmailed = result.mail?.failed ? `&unmailed=${result.mail.failed}` : '';
+		redirect(303, `/o/${saved.member.orgSlug}/entries/${params.id}/edit?submitted=${result.mail?.sent ?? 0}${unmailed}`);
 	}
 };
