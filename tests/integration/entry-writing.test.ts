@@ -263,7 +263,7 @@ describe('the Markdown preview endpoint', () => {
 				'<img src=x onerror=alert(2)>',
 				'[click](javascript:alert(3))',
 				'![far away](https://xss.example/p.png)',
-				`![ours](/o/${SLUG}/attachments/photo-1.jpg)`,
+				`![ours](/api/v1/orgs/${SLUG}/photos/7d6f3f0e-3c1a-4b8e-9a51-2f0c7e4b9d21)`,
 				'# Heading'
 			].join('\n\n')
 		});
@@ -273,7 +273,7 @@ describe('the Markdown preview endpoint', () => {
 		expect(body.querySelectorAll('script, iframe, object, embed')).toHaveLength(0);
 		expect([...body.querySelectorAll('*')].filter((el) => [...el.attributes].some((a) => a.name.startsWith('on')))).toHaveLength(0);
 		expect([...body.querySelectorAll('a')].map((a) => a.getAttribute('href'))).not.toContainEqual(expect.stringMatching(/^javascript:/i));
-		expect([...body.querySelectorAll('img')].map((i) => i.getAttribute('src'))).toEqual([`/o/${SLUG}/attachments/photo-1.jpg`]);
+		expect([...body.querySelectorAll('img')].map((i) => i.getAttribute('src'))).toEqual([`/api/v1/orgs/${SLUG}/photos/7d6f3f0e-3c1a-4b8e-9a51-2f0c7e4b9d21`]);
 		// Typed HTML stays visible as text; headings start at h2 (the page owns the h1).
 		expect(body.body.textContent).toContain('<script>alert(1)</script>');
 		expect(body.querySelector('h2')?.textContent).toBe('Heading');

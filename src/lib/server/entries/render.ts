@@ -1,9 +1,12 @@
 import type { MarkdownPreview, RenderedParts } from '../../schemas/entries';
 import { renderInline, renderMarkdown, renderMarkdownUncached } from '../markdown';
 
-/** Where an organisation's photos live; entry Markdown may show images from there only. */
+/**
+ * Where an organisation's photos are served; entry Markdown may show images from there only.
+ * The photo uploader inserts `![alt](/api/v1/orgs/<org>/photos/<id>)`, so this is that prefix.
+ */
 export function attachmentPrefixOf(orgSlug: string): string {
-	return `/o/${orgSlug}/attachments/`;
+	return `/api/v1/orgs/${orgSlug}/photos/`;
 }
 
 export type { RenderedParts };
