@@ -75,6 +75,9 @@ test('a contributor writes and submits an entry with hostile text; an author pub
 	await expect(status).toHaveText(/Saved \d{1,2}:\d{2}/, { timeout: 15_000 });
 	await expect(page).toHaveURL(/\/o\/fernhollow\/entries\/[0-9a-f-]{36}\/edit$/);
 	const editUrl = page.url();
+	// With the draft stored, its curve and photo sections appear.
+	await expect(page.getByTestId('traces-section')).toBeVisible();
+	await expect(page.getByTestId('photos-section')).toBeVisible();
 
 	// Ctrl+S saves at once.
 	await page.getByLabel('Fix').fill('Replace C14 (1000 µF 35 V, 105 °C).');
