@@ -61,7 +61,21 @@ async function freshFixture(): Promise<RouteFixture> {
 	const added = await addPhoto(db, admin, entry.id, photo);
 	if (added.kind !== 'saved') throw new Error(added.kind);
 	const photoId = added.photo.id;
-	return { victimUserId: victim.userId, invitationId: inv.id, freshEmail: `fresh${n}@example.com`, tokenId: token.id, entryId: entry.id, traceId, photoId };
+	const contributor = { ...admin, userId: members.contributor.userId, role: 'contributor' as const };
+	const draft = await createEntry(db, contributor, entryCreate.parse({ title: `Draft ${n}`, componentKind: 'diode', symptom: 'Fixture draft' }));
+	const submitted = await createEntry(db, contributor, entryCreate.parse({ title: `Submitted ${n}`, componentKind: 'diode', symptom: 'Fixture submission' }));
+	await transitionEntry(db, contributor, submitted.id, 'submit', '');
+	return {
+		victimUserId: victim.userId,
+		invitationId: inv.id,
+		freshEmail: `fresh${n}@example.com`,
+		tokenId: token.id,
+		entryId: entry.id,
+		traceId,
+		draftEntryId: draft.id,
+		reviewEntryId: submitted.id,
+		photoId
+	};
 }
 
 let shared: RouteFixture | undefined;

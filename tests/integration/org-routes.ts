@@ -40,6 +40,15 @@ export interface RouteFixture {
 	traceId: string;
 	/** A photo of that entry. */
 	photoId: string;
+	/** A draft written by the contributor member, version 1. */
+	draftEntryId: string;
+	/** An entry the contributor member wrote and submitted: in review. */
+	reviewEntryId: string;
+}
+
+/** The editor's form fields for a small valid entry, as a browser posts them. */
+function entryForm(extra: Record<string, string>): Record<string, string> {
+	return { title: 'Route test', componentKind: 'resistor', symptom: 'Edited by the route test', tags: 'route-test', ...extra };
 }
 
 /** A small PNG (written by a browser's canvas encoder) as a file upload in the field `photo`. */
@@ -368,6 +377,66 @@ export const ORG_ROUTES: OrgRoute[] = [
 		action: 'org:settings',
 		writes: true,
 		request: (s) => ({ path: `/o/${s}/transfer?/import`, body: bundleForm(EMPTY_BUNDLE) })
+	},
+	// Writing and reviewing. Editing someone else's published entry takes entry:editAny; submitting
+	// the contributor's own draft takes entry:submit; the queue and its actions are the reviewers'.
+	{ route: 'o/[org=slug]/entries/new', kind: 'page', method: 'GET', action: 'entry:draft', request: (s) => ({ path: `/o/${s}/entries/new` }) },
+	{
+		route: 'o/[org=slug]/entries/new',
+		kind: 'action',
+		name: 'create',
+		method: 'POST',
+		action: 'entry:draft',
+		writes: true,
+		status: 303,
+		request: (s) => ({ path: `/o/${s}/entries/new?/create`, body: entryForm({}) })
+	},
+	{ route: 'o/[org=slug]/entries/[id=uuid]/edit', kind: 'page', method: 'GET', action: 'entry:editAny', request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/edit` }) },
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/edit',
+		kind: 'action',
+		name: 'save',
+		method: 'POST',
+		action: 'entry:editAny',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/edit?/save`, body: entryForm({ version: '1' }) })
+	},
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/edit',
+		kind: 'action',
+		name: 'submit',
+		method: 'POST',
+		action: 'entry:submit',
+		writes: true,
+		status: 303,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.draftEntryId}/edit?/submit`, body: entryForm({ version: '1' }) })
+	},
+	{ route: 'o/[org=slug]/review', kind: 'page', method: 'GET', action: 'entry:review', request: (s) => ({ path: `/o/${s}/review` }) },
+	{
+		route: 'o/[org=slug]/review',
+		kind: 'action',
+		name: 'publish',
+		method: 'POST',
+		action: 'entry:publish',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/review?/publish`, body: { id: fx.reviewEntryId } })
+	},
+	{
+		route: 'o/[org=slug]/review',
+		kind: 'action',
+		name: 'return',
+		method: 'POST',
+		action: 'entry:review',
+		writes: true,
+		request: (s, fx) => ({ path: `/o/${s}/review?/return`, body: { id: fx.reviewEntryId, comment: 'Add the known-good curve.' } })
+	},
+	{
+		route: 'api/v1/orgs/[org=slug]/markdown/preview',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'entry:draft',
+		status: 200,
+		request: (s) => ({ path: `/api/v1/orgs/${s}/markdown/preview`, body: { json: { body: '**Open** <script>x</script>' } } })
 	},
 	{
 		route: 'api/v1/orgs/[org=slug]/matches',

@@ -96,28 +96,46 @@ export const tagList = z
 			.transform((tags) => [...new Set(tags)])
 	);
 
-/** Every field a person edits on an entry. */
-export const entryFields = z.object({
+/** The rule of each field a person edits on an entry, without defaults. */
+const fieldRules = {
 	title: required(LIMITS.title, 'a title'),
 	componentKind: z.enum(COMPONENT_KINDS, { error: 'Choose the kind of component.' }),
-	partNumber: text(LIMITS.partNumber, 'the part number').default(''),
-	package: text(LIMITS.package, 'the package').default(''),
-	assembly: text(LIMITS.shortField, 'the assembly').default(''),
-	testPoint: text(LIMITS.shortField, 'the test point').default(''),
+	partNumber: text(LIMITS.partNumber, 'the part number'),
+	package: text(LIMITS.package, 'the package'),
+	assembly: text(LIMITS.shortField, 'the assembly'),
+	testPoint: text(LIMITS.shortField, 'the test point'),
 	symptom: required(LIMITS.symptom, 'the symptom in one line'),
-	symptomDetail: text(LIMITS.markdown, 'the symptom detail').default(''),
-	cause: text(LIMITS.markdown, 'the root cause').default(''),
-	fix: text(LIMITS.markdown, 'the fix').default(''),
-	body: text(LIMITS.body, 'the notes').default(''),
-	tags: tagList.default([])
+	symptomDetail: text(LIMITS.markdown, 'the symptom detail'),
+	cause: text(LIMITS.markdown, 'the root cause'),
+	fix: text(LIMITS.markdown, 'the fix'),
+	body: text(LIMITS.body, 'the notes'),
+	tags: tagList
+};
+
+/** Every field a person edits on an entry; the optional ones default to empty. */
+export const entryFields = z.object({
+	...fieldRules,
+	partNumber: fieldRules.partNumber.default(''),
+	package: fieldRules.package.default(''),
+	assembly: fieldRules.assembly.default(''),
+	testPoint: fieldRules.testPoint.default(''),
+	symptomDetail: fieldRules.symptomDetail.default(''),
+	cause: fieldRules.cause.default(''),
+	fix: fieldRules.fix.default(''),
+	body: fieldRules.body.default(''),
+	tags: fieldRules.tags.default([])
 });
 export type EntryFields = z.infer<typeof entryFields>;
 
 export const entryCreate = entryFields;
 export type EntryCreate = z.infer<typeof entryCreate>;
 
-/** An update names the version it was based on, so a save over a newer version is refused. */
-export const entryUpdate = entryFields.partial().extend({
+/**
+ * An update names the version it was based on, so a save over a newer version is refused. A field
+ * left out keeps its stored value: the rules carry no defaults here, since zod applies a default
+ * even inside `.partial()` and would blank every field the update did not name.
+ */
+export const entryUpdate = z.object(fieldRules).partial().extend({
 	version: z.coerce.number({ error: 'The version being edited is missing.' }).int().min(1)
 });
 export type EntryUpdate = z.infer<typeof entryUpdate>;
@@ -177,3 +195,26 @@ export const matchOptions = z.object({
 	/** Keep the capture as a query trace, to attach to a new entry later. */
 	save: checkbox
 });
+
+/** The Markdown fields of an entry, which the editor previews as the server will render them. */
+export const PREVIEW_FIELDS = ['symptom', 'symptomDetail', 'cause', 'fix', 'body'] as const;
+export type PreviewField = (typeof PREVIEW_FIELDS)[number];
+
+/** A preview request: any of the entry's Markdown fields, each within its stored limit. */
+export const markdownPreview = z.object({
+	symptom: z.string().max(LIMITS.symptom, `Keep the symptom to ${LIMITS.symptom} characters or fewer.`).optional(),
+	symptomDetail: z.string().max(LIMITS.markdown, `Keep the symptom detail to ${LIMITS.markdown} characters or fewer.`).optional(),
+	cause: z.string().max(LIMITS.markdown, `Keep the root cause to ${LIMITS.markdown} characters or fewer.`).optional(),
+	fix: z.string().max(LIMITS.markdown, `Keep the fix to ${LIMITS.markdown} characters or fewer.`).optional(),
+	body: z.string().max(LIMITS.body, `Keep the notes to ${LIMITS.body} characters or fewer.`).optional()
+});
+export type MarkdownPreview = z.infer<typeof markdownPreview>;
+/** The preview endpoint's answer: the same keys, as sanitised HTML. */
+export type RenderedParts = Partial<Record<PreviewField, string>>;
+
+/** Sending an entry back to its writer needs a reason. */
+export const entryReturn = z.object({
+	id: z.uuid({ error: 'That entry no longer exists.' }),
+	comment: required(LIMITS.comment, 'what should change')
+});
+export const entryRef = z.object({ id: z.uuid({ error: 'That entry no longer exists.' }) });

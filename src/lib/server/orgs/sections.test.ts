@@ -4,11 +4,12 @@ import { orgSections } from './sections';
 describe('orgSections', () => {
 	// Which pages each role reaches follows the role table in DESIGN.md: members, invitations,
 	// organisation API tokens and the audit log are admin business; everyone reads the entries and
-	// searches them ("viewer … search").
-	it('shows a viewer, a contributor and an author only the overview, the entries and search', () => {
-		for (const role of ['viewer', 'contributor', 'author'] as const) {
+	// searches them ("viewer … search"); reviewing is for authors and up.
+	it('shows a viewer and a contributor the overview, the entries and search, and an author the review queue too', () => {
+		for (const role of ['viewer', 'contributor'] as const) {
 			expect(orgSections('bench', role).map((s) => s.label)).toEqual(['Overview', 'Entries', 'Search']);
 		}
+		expect(orgSections('bench', 'author').map((s) => s.label)).toEqual(['Overview', 'Entries', 'Search', 'Review']);
 	});
 
 	it('shows an admin every section, under the organisation’s address', () => {
@@ -16,6 +17,7 @@ describe('orgSections', () => {
 			{ href: '/o/bench', label: 'Overview' },
 			{ href: '/o/bench/entries', label: 'Entries' },
 			{ href: '/o/bench/search', label: 'Search' },
+			{ href: '/o/bench/review', label: 'Review' },
 			{ href: '/o/bench/members', label: 'Members' },
 			{ href: '/o/bench/invitations', label: 'Invitations' },
 			{ href: '/o/bench/tokens', label: 'API tokens' },

@@ -3,6 +3,8 @@ import { type Action, can, type Role } from '../auth/permissions';
 export interface OrgSection {
 	href: string;
 	label: string;
+	/** A count shown beside the label (entries waiting for review). */
+	badge?: number;
 }
 
 /** The organisation's pages in navigation order, each with the action that opens it. */
@@ -10,6 +12,7 @@ const SECTIONS: { path: string; label: string; action: Action }[] = [
 	{ path: '', label: 'Overview', action: 'org:read' },
 	{ path: '/entries', label: 'Entries', action: 'entry:read' },
 	{ path: '/search', label: 'Search', action: 'search:run' },
+	{ path: '/review', label: 'Review', action: 'entry:review' },
 	{ path: '/members', label: 'Members', action: 'member:read' },
 	{ path: '/invitations', label: 'Invitations', action: 'invitation:manage' },
 	{ path: '/tokens', label: 'API tokens', action: 'orgToken:manage' },

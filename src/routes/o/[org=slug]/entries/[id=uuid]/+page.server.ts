@@ -7,7 +7,8 @@ import { entryJson, traceJson } from '$lib/server/entries/json';
 import { helpedState, recordEntryView } from '$lib/server/entries/helped';
 import { findEntry } from '$lib/server/entries/queries';
 import { checkTransition, mayEdit, readerFor, TRANSITION_MESSAGES } from '$lib/server/entries/rules';
-import { deleteEntry, transitionEntry } from '$lib/server/entries/service';
+import { changeEntryStatus } from '$lib/server/entries/review';
+import { deleteEntry } from '$lib/server/entries/service';
 import { renderMarkdown } from '$lib/server/markdown';
 import { photoUrlPrefix } from '$lib/photos/urls';
 import { findTraceCurves, listEntryTraces } from '$lib/server/traces/service';
@@ -47,13 +48,16 @@ export const load: PageServerLoad = async ({ params, url, request }) => {
 };
 
 export const actions: Actions = {
-	/** A status change (submit, publish, send back with a comment, archive, reopen); the rules decide who may. */
-	transition: async ({ params, request }) => {
+	/**
+	 * A status change (submit, publish, send back with a comment, archive, reopen); the rules decide
+	 * who may. Submitting mails the reviewers; sending back or publishing a submission mails its writer.
+	 */
+	transition: async ({ params, request, url }) => {
 		const member = await requireMember(params.org, 'entry:read');
 		const form = await request.formData();
 		const parsed = entryTransition.safeParse({ action: form.get('action'), comment: form.get('comment') ?? '' });
 		if (!parsed.success) return fail(400, { transitionMessage: parsed.error.issues[0]?.message ?? 'The status change is not valid.', comment: String(form.get('comment') ?? '') });
-		const result = await transitionEntry(db, member, params.id, parsed.data.action, parsed.data.comment);
+		const result = await changeEntryStatus(db, member, params.id, parsed.data.action, parsed.data.comment, url.origin);
 		if (result.kind === 'not_found') error(404, 'Not found');
 		if (result.kind === 'refused') {
 			const status = result.reason === 'forbidden' ? 403 : result.reason === 'comment_required' ? 400 : 409;
