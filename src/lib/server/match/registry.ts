@@ -117,7 +117,8 @@ export class MatchIndexes {
 					tags: r.tags
 				}
 			};
-			loaded.index.upsert(meta, r.descriptor, r.descriptorTail);
+			// A tail not computed yet (a trace from before the column; see backfillDescriptorTails) ranks as before.
+			loaded.index.upsert(meta, r.descriptor, r.descriptorTail ?? 0);
 			let set = loaded.byEntry.get(meta.data.entryId);
 			if (!set) loaded.byEntry.set(meta.data.entryId, (set = new Set()));
 			set.add(r.id);
