@@ -61,7 +61,9 @@ test('a simulated leaky capacitor finds its demo entry, previewed before matchin
 	await expect(first.getByRole('link', { name: /Open entry/ })).toHaveAttribute('href', /^\/o\/fernhollow\/entries\/[0-9a-f-]{36}$/);
 
 	await page.screenshot({ path: 'test-output/e2e-match/results.png', fullPage: true });
+	// A 390 px phone: the results fit the width, nothing scrolls sideways.
 	await page.setViewportSize({ width: 390, height: 844 });
+	expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
 	await page.screenshot({ path: 'test-output/e2e-match/results-phone.png', fullPage: true });
 	await page.setViewportSize({ width: 1280, height: 720 });
 
