@@ -203,8 +203,23 @@ export interface MatchResult {
 	curve: CanonicalCurve;
 }
 
-/** How many descriptor candidates are re-ranked with the exact distance, at least. */
-export const MIN_CANDIDATES = 128;
+/** Fewest descriptor candidates re-ranked with the exact distance, whatever the library size. */
+export const MIN_CANDIDATES = 32;
+/** Candidates per 100 000 stored traces (measured by `npm run bench -- match`). */
+export const CANDIDATES_PER_100K = 128;
+export const MAX_CANDIDATES = 4096;
+
+/**
+ * How many descriptor candidates to re-rank exactly in a library of `size` traces. The descriptor
+ * score (truncated Parseval sum plus each trace's tail) orders traces like the exact distance up to
+ * bench noise, so the true top ten sit among the traces whose score lies within a noise band of
+ * theirs — and the number of traces in that band grows in proportion to the library. A fixed count
+ * loses recall in large libraries and wastes exact comparisons in small ones; this one scales.
+ */
+export function candidatesFor(size: number, limit: number): number {
+	const scaled = Math.ceil((size * CANDIDATES_PER_100K) / 100_000);
+	return Math.min(MAX_CANDIDATES, Math.max(MIN_CANDIDATES, limit * 3, scaled));
+}
 
 /**
  * Stored traces ranked by shape against `query`: descriptor candidates from the index, re-ranked
@@ -232,7 +247,7 @@ export async function rankTraces(
 			(!f.tags?.length || f.tags.every((t) => d.tags.includes(t)))
 		);
 	};
-	const candidates = index.search(descriptor(query), query.conditions, Math.max(MIN_CANDIDATES, options.limit * 4), accept);
+	const candidates = index.search(descriptor(query), query.conditions, candidatesFor(index.size, options.limit), accept);
 	if (candidates.length === 0) return [];
 	const curves = await findTraceCurves(db, orgId, candidates.map((c) => c.meta.traceId));
 	return candidates
