@@ -17,7 +17,7 @@ import { compare, descriptor, descriptorTail } from '../../src/lib/signature/com
 import { toCanonical } from '../../src/lib/signature/curve';
 import { CANONICAL_POINTS, type CanonicalCurve, type TestConditions } from '../../src/lib/signature/types';
 import { DescriptorIndex } from '../../src/lib/server/match/descriptor-index';
-import { candidatesFor } from '../../src/lib/server/match/registry';
+import { candidatesFor, exactPool } from '../../src/lib/server/match/registry';
 
 export const name = 'match';
 
@@ -137,7 +137,7 @@ export async function run(): Promise<void> {
 		for (const q of queries) {
 			const t0 = now();
 			const candidates = index.search(descriptor(q), q.conditions, CANDIDATES);
-			const reranked = candidates
+			const reranked = exactPool(candidates, 10)
 				.map((c) => ({ id: c.meta.traceId, comparable: c.comparable, d: compare(q, keepCurves ? curves[c.meta.data] : curveOf(c.meta.data)).distance }))
 				.sort((a, b) => Number(b.comparable) - Number(a.comparable) || a.d - b.d);
 			latencies.push(now() - t0);

@@ -204,7 +204,7 @@ export interface MatchResult {
 }
 
 /** Fewest descriptor candidates re-ranked with the exact distance, whatever the library size. */
-export const MIN_CANDIDATES = 32;
+export const MIN_CANDIDATES = 40;
 /** Candidates per 100 000 stored traces (measured by `npm run bench -- match`). */
 export const CANDIDATES_PER_100K = 128;
 export const MAX_CANDIDATES = 4096;
@@ -219,6 +219,16 @@ export const MAX_CANDIDATES = 4096;
 export function candidatesFor(size: number, limit: number): number {
 	const scaled = Math.ceil((size * CANDIDATES_PER_100K) / 100_000);
 	return Math.min(MAX_CANDIDATES, Math.max(MIN_CANDIDATES, limit * 3, scaled));
+}
+
+/**
+ * The candidates worth an exact comparison. Results list comparable conditions first, so once
+ * there are `limit` comparable candidates no incomparable one can reach the results: comparing
+ * them exactly (and loading their curves) would change nothing.
+ */
+export function exactPool<C extends { comparable: boolean }>(candidates: C[], limit: number): C[] {
+	const near = candidates.filter((c) => c.comparable);
+	return near.length >= limit ? near : candidates;
 }
 
 /**
@@ -249,8 +259,9 @@ export async function rankTraces(
 	};
 	const candidates = index.search(descriptor(query), query.conditions, candidatesFor(index.size, options.limit), accept);
 	if (candidates.length === 0) return [];
-	const curves = await findTraceCurves(db, orgId, candidates.map((c) => c.meta.traceId));
-	return candidates
+	const pool = exactPool(candidates, options.limit);
+	const curves = await findTraceCurves(db, orgId, pool.map((c) => c.meta.traceId));
+	return pool
 		.filter((c) => curves.has(c.meta.traceId))
 		.map((c) => {
 			const curve = curves.get(c.meta.traceId)!;
