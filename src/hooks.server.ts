@@ -3,7 +3,7 @@ import { building } from '$app/environment';
 import { sequence } from '@sveltejs/kit/hooks';
 import { authHandle } from './auth';
 import { apiTokenHandle } from '$lib/server/auth/member';
-import { matchIndexes } from '$lib/server/match';
+import { matchIndexes, startDescriptorTailBackfill } from '$lib/server/match';
 import { startEntrySearchSync } from '$lib/server/search/start';
 
 /** Background work of the server process: the search index and the match indexes follow Postgres. */
@@ -11,6 +11,7 @@ export const init: ServerInit = () => {
 	if (building) return;
 	startEntrySearchSync();
 	matchIndexes();
+	startDescriptorTailBackfill();
 };
 
 /**

@@ -87,6 +87,15 @@ function resistorCapture() {
 	return { capture: { v, i }, sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60, role: 'known-good' };
 }
 
+/** The same resistor capture as a bench CSV, as pasted into the match form (time, volts, milliamps). */
+function resistorCsv(): string {
+	const { capture } = resistorCapture();
+	const rows = capture.v.map((v, k) => `${(k / (100 * 60)).toExponential(6)},${v.toPrecision(6)},${(capture.i[k] * 1e3).toPrecision(6)}`);
+	return ['time_s,voltage_V,current_mA', ...rows].join('\n');
+}
+
+const matchForm = () => ({ csv: resistorCsv(), sourcePeakV: '10', sourceResistanceOhm: '1000', frequencyHz: '60' });
+
 export const ORG_ROUTES: OrgRoute[] = [
 	{ route: 'o/[org=slug]', kind: 'page', method: 'GET', action: 'org:read', request: (s) => ({ path: `/o/${s}` }) },
 	{ route: 'o/[org=slug]/members', kind: 'page', method: 'GET', action: 'member:read', request: (s) => ({ path: `/o/${s}/members` }) },
@@ -145,6 +154,18 @@ export const ORG_ROUTES: OrgRoute[] = [
 		action: 'orgToken:manage',
 		writes: true,
 		request: (s, fx) => ({ path: `/o/${s}/tokens?/revoke`, body: { id: fx.tokenId } })
+	},
+	{ route: 'o/[org=slug]/match', kind: 'page', method: 'GET', action: 'match:run', request: (s) => ({ path: `/o/${s}/match` }) },
+	{ route: 'o/[org=slug]/match', kind: 'action', name: 'match', method: 'POST', action: 'match:run', request: (s) => ({ path: `/o/${s}/match?/match`, body: matchForm() }) },
+	{
+		route: 'o/[org=slug]/match',
+		kind: 'action',
+		name: 'draft',
+		method: 'POST',
+		action: 'entry:draft',
+		writes: true,
+		status: 303,
+		request: (s) => ({ path: `/o/${s}/match?/draft`, body: matchForm() })
 	},
 	{ route: 'o/[org=slug]/audit', kind: 'page', method: 'GET', action: 'audit:read', request: (s) => ({ path: `/o/${s}/audit` }) },
 	{ route: 'o/[org=slug]/entries', kind: 'page', method: 'GET', action: 'entry:read', request: (s) => ({ path: `/o/${s}/entries?kind=diode` }) },

@@ -429,3 +429,21 @@ describe('header words and quantities', () => {
 		expect(parseQuantity(text)).toBeCloseTo(value, 12);
 	});
 });
+
+describe('parseCapture: the command line’s own CSV', () => {
+	// `signature simulate --csv` writes a source-phase column in degrees: it orders the points, it
+	// is not a clock. Read as seconds it would imply a frequency of 1/360 of a period per degree.
+	it('reads a phase_deg column as an index, not as time', () => {
+		const n = 256;
+		const rows = ['phase_deg,voltage_V,current_A'];
+		for (let k = 0; k < n; k++) {
+			const e = 10 * Math.sin((2 * Math.PI * k) / n);
+			// A 2.2 kΩ resistor behind 1 kΩ (Ohm's law: i = e / 3200 Ω).
+			rows.push(`${(360 * k) / n},${(e * 2200) / 3200},${e / 3200}`);
+		}
+		const parsed = parseCapture(rows.join('\n'));
+		expect(parsed.samples.t).toBeUndefined();
+		expect(parsed.samples.v).toHaveLength(n);
+		expect(parsed.samples.i[64]).toBeCloseTo(10 / 3200, 9);
+	});
+});

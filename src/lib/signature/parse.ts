@@ -93,6 +93,8 @@ const ROLE_WORDS: Record<string, Role> = {
 	samples: 'index',
 	point: 'index',
 	pt: 'index',
+	// A source-phase column (what `signature simulate --csv` writes) orders the points but is no clock.
+	phase: 'index',
 	'#': 'index',
 	v: 'voltage',
 	u: 'voltage',

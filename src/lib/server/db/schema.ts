@@ -151,6 +151,16 @@ export interface Invitation {
   tokenHash: string;
 }
 
+export interface MatchPreference {
+  frequencyHz: number;
+  orgId: string;
+  senseOhm: number | null;
+  sourcePeakV: number;
+  sourceResistanceOhm: number;
+  updatedAt: Generated<Timestamp>;
+  userId: string;
+}
+
 export interface Membership {
   joinedAt: Generated<Timestamp>;
   lastActiveAt: Timestamp | null;
@@ -199,7 +209,7 @@ export interface Trace {
   createdAt: Generated<Timestamp>;
   createdBy: string | null;
   descriptor: number[];
-  descriptorTail: Generated<number>;
+  descriptorTail: number | null;
   entryId: string | null;
   fileBytes: number | null;
   fileData: Buffer | null;
@@ -247,6 +257,7 @@ export interface DB {
   entryHelped: EntryHelped;
   entryRevision: EntryRevision;
   invitation: Invitation;
+  matchPreference: MatchPreference;
   membership: Membership;
   organisation: Organisation;
   searchOutbox: SearchOutbox;

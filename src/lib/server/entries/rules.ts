@@ -30,11 +30,11 @@ export function mayEdit(member: { userId: string; role: Role }, entry: { authorI
 	return can(member.role, 'entry:draft') && entry.authorId === member.userId && entry.status === 'draft';
 }
 
-export type TransitionCheck = { ok: true; to: EntryStatus } | { ok: false; reason: 'forbidden' | 'wrong_status' | 'comment_required' };
+export type TransitionCheck = { ok: true; to: EntryStatus } | { ok: false; reason: 'forbidden' | 'wrong_status' | 'comment_required' | 'symptom_required' };
 
 export function checkTransition(
 	member: { userId: string; role: Role },
-	entry: { authorId: string | null; status: EntryStatus },
+	entry: { authorId: string | null; status: EntryStatus; symptom?: string },
 	transition: EntryTransition,
 	comment: string
 ): TransitionCheck {
@@ -46,11 +46,16 @@ export function checkTransition(
 	}
 	if (!rule.from.includes(entry.status)) return { ok: false, reason: 'wrong_status' };
 	if (transition === 'return' && comment.trim() === '') return { ok: false, reason: 'comment_required' };
+	// A draft written from an unknown capture may have no symptom yet; it needs one to leave draft.
+	if ((transition === 'submit' || transition === 'publish') && entry.symptom !== undefined && entry.symptom.trim() === '') {
+		return { ok: false, reason: 'symptom_required' };
+	}
 	return { ok: true, to: rule.to };
 }
 
 export const TRANSITION_MESSAGES = {
 	forbidden: 'Your role does not allow this status change.',
 	wrong_status: 'The entry is no longer in a state that allows this. Reload to see its current status.',
-	comment_required: 'Say why you are sending it back, so the writer knows what to change.'
+	comment_required: 'Say why you are sending it back, so the writer knows what to change.',
+	symptom_required: 'Write the symptom in one line before sending the entry on.'
 } as const;

@@ -1,5 +1,6 @@
 import type { Kysely } from 'kysely';
-import type { EntryFields, EntryTransition, EntryUpdate } from '../../schemas/entries';
+import type { EntryFields, EntryTransition, EntryUpdate, TraceRole } from '../../schemas/entries';
+import { can } from '../auth/permissions';
 import type { MemberContext } from '../auth/member';
 import type { Database } from '../db/connect';
 import { recordEntryChange } from './changes';
@@ -116,5 +117,40 @@ export async function restoreDeletedEntry(db: Kysely<Database>, member: MemberCo
 		const restored = await restoreEntry(trx, member.orgId, id, RESTORE_WINDOW_DAYS);
 		if (restored) await recordEntryChange(trx, member.orgId, id, 'upsert');
 		return restored;
+	});
+}
+
+export type AttachTraceResult = { kind: 'attached' } | { kind: 'not_found' } | { kind: 'forbidden' };
+
+/**
+ * Re-homes a capture saved from the match screen (a `query` trace, attached to nothing) onto an
+ * entry as one of its traces, in one transaction with the entry-change record (search outbox and
+ * NOTIFY, so every match index picks the trace up). Only the member who saved the capture may
+ * move it, unless they may edit any entry; and only onto an entry they may edit.
+ */
+export async function attachQueryTrace(
+	db: Kysely<Database>,
+	member: MemberContext,
+	traceId: string,
+	entryId: string,
+	role: Exclude<TraceRole, 'query'> = 'fault',
+	label = ''
+): Promise<AttachTraceResult> {
+	return db.transaction().execute(async (trx): Promise<AttachTraceResult> => {
+		const locked = await lockEntry(trx, member.orgId, entryId);
+		if (!locked || !(await findEntry(trx, member.orgId, entryId, readerFor(member)))) return { kind: 'not_found' };
+		if (!mayEdit(member, locked)) return { kind: 'forbidden' };
+		let q = trx
+			.updateTable('trace')
+			.set({ entryId, role, label })
+			.where('orgId', '=', member.orgId)
+			.where('id', '=', traceId)
+			.where('role', '=', 'query')
+			.where('entryId', 'is', null);
+		if (!can(member.role, 'entry:editAny')) q = q.where('createdBy', '=', member.userId);
+		const moved = await q.returning('id').executeTakeFirst();
+		if (!moved) return { kind: 'not_found' };
+		await recordEntryChange(trx, member.orgId, entryId, 'upsert');
+		return { kind: 'attached' };
 	});
 }

@@ -1,5 +1,6 @@
 import { db } from '../db';
 import { config } from '../env';
+import { backfillDescriptorTails } from '../traces/backfill';
 import { MatchIndexes } from './registry';
 
 export { rankTraces, type MatchFilters, type MatchResult } from './registry';
@@ -20,4 +21,16 @@ export function matchIndexes(): MatchIndexes {
 		process.once('sveltekit:shutdown', () => void current.close());
 	}
 	return indexes;
+}
+
+/**
+ * Fills the descriptor tails missing from traces stored before the column existed, in the
+ * background; the indexes refresh through the NOTIFY each batch sends.
+ */
+export function startDescriptorTailBackfill(): void {
+	backfillDescriptorTails(db)
+		.then((n) => {
+			if (n > 0) console.log(`match: computed the descriptor tail of ${n} older traces`);
+		})
+		.catch((e) => console.error('match: descriptor tail backfill failed (it runs again at the next start):', e instanceof Error ? e.message : e));
 }

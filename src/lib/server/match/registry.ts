@@ -117,7 +117,8 @@ export class MatchIndexes {
 					tags: r.tags
 				}
 			};
-			loaded.index.upsert(meta, r.descriptor, r.descriptorTail);
+			// A tail not computed yet (a trace from before the column; see backfillDescriptorTails) ranks as before.
+			loaded.index.upsert(meta, r.descriptor, r.descriptorTail ?? 0);
 			let set = loaded.byEntry.get(meta.data.entryId);
 			if (!set) loaded.byEntry.set(meta.data.entryId, (set = new Set()));
 			set.add(r.id);
@@ -202,8 +203,33 @@ export interface MatchResult {
 	curve: CanonicalCurve;
 }
 
-/** How many descriptor candidates are re-ranked with the exact distance, at least. */
-export const MIN_CANDIDATES = 128;
+/** Fewest descriptor candidates re-ranked with the exact distance, whatever the library size. */
+export const MIN_CANDIDATES = 40;
+/** Candidates per 100 000 stored traces (measured by `npm run bench -- match`). */
+export const CANDIDATES_PER_100K = 128;
+export const MAX_CANDIDATES = 4096;
+
+/**
+ * How many descriptor candidates to re-rank exactly in a library of `size` traces. The descriptor
+ * score (truncated Parseval sum plus each trace's tail) orders traces like the exact distance up to
+ * bench noise, so the true top ten sit among the traces whose score lies within a noise band of
+ * theirs — and the number of traces in that band grows in proportion to the library. A fixed count
+ * loses recall in large libraries and wastes exact comparisons in small ones; this one scales.
+ */
+export function candidatesFor(size: number, limit: number): number {
+	const scaled = Math.ceil((size * CANDIDATES_PER_100K) / 100_000);
+	return Math.min(MAX_CANDIDATES, Math.max(MIN_CANDIDATES, limit * 3, scaled));
+}
+
+/**
+ * The candidates worth an exact comparison. Results list comparable conditions first, so once
+ * there are `limit` comparable candidates no incomparable one can reach the results: comparing
+ * them exactly (and loading their curves) would change nothing.
+ */
+export function exactPool<C extends { comparable: boolean }>(candidates: C[], limit: number): C[] {
+	const near = candidates.filter((c) => c.comparable);
+	return near.length >= limit ? near : candidates;
+}
 
 /**
  * Stored traces ranked by shape against `query`: descriptor candidates from the index, re-ranked
@@ -231,10 +257,11 @@ export async function rankTraces(
 			(!f.tags?.length || f.tags.every((t) => d.tags.includes(t)))
 		);
 	};
-	const candidates = index.search(descriptor(query), query.conditions, Math.max(MIN_CANDIDATES, options.limit * 4), accept);
+	const candidates = index.search(descriptor(query), query.conditions, candidatesFor(index.size, options.limit), accept);
 	if (candidates.length === 0) return [];
-	const curves = await findTraceCurves(db, orgId, candidates.map((c) => c.meta.traceId));
-	return candidates
+	const pool = exactPool(candidates, options.limit);
+	const curves = await findTraceCurves(db, orgId, pool.map((c) => c.meta.traceId));
+	return pool
 		.filter((c) => curves.has(c.meta.traceId))
 		.map((c) => {
 			const curve = curves.get(c.meta.traceId)!;

@@ -4,12 +4,13 @@ import { orgSections } from './sections';
 describe('orgSections', () => {
 	// Which pages each role reaches follows the role table in DESIGN.md: members, invitations,
 	// organisation API tokens and the audit log are admin business; everyone reads the entries and
-	// searches them ("viewer … search"); reviewing is for authors and up.
-	it('shows a viewer and a contributor the overview, the entries and search, and an author the review queue too', () => {
+	// searches them and matches a capture ("viewer … search, match a capture"); reviewing is for
+	// authors and up.
+	it('shows a viewer and a contributor the overview, the entries, search and the match screen, and an author the review queue too', () => {
 		for (const role of ['viewer', 'contributor'] as const) {
-			expect(orgSections('bench', role).map((s) => s.label)).toEqual(['Overview', 'Entries', 'Search']);
+			expect(orgSections('bench', role).map((s) => s.label)).toEqual(['Overview', 'Entries', 'Search', 'Match a capture']);
 		}
-		expect(orgSections('bench', 'author').map((s) => s.label)).toEqual(['Overview', 'Entries', 'Search', 'Review']);
+		expect(orgSections('bench', 'author').map((s) => s.label)).toEqual(['Overview', 'Entries', 'Search', 'Match a capture', 'Review']);
 	});
 
 	it('shows an admin every section, under the organisation’s address', () => {
@@ -17,6 +18,7 @@ describe('orgSections', () => {
 			{ href: '/o/bench', label: 'Overview' },
 			{ href: '/o/bench/entries', label: 'Entries' },
 			{ href: '/o/bench/search', label: 'Search' },
+			{ href: '/o/bench/match', label: 'Match a capture' },
 			{ href: '/o/bench/review', label: 'Review' },
 			{ href: '/o/bench/members', label: 'Members' },
 			{ href: '/o/bench/invitations', label: 'Invitations' },

@@ -12,6 +12,7 @@ const SECTIONS: { path: string; label: string; action: Action }[] = [
 	{ path: '', label: 'Overview', action: 'org:read' },
 	{ path: '/entries', label: 'Entries', action: 'entry:read' },
 	{ path: '/search', label: 'Search', action: 'search:run' },
+	{ path: '/match', label: 'Match a capture', action: 'match:run' },
 	{ path: '/review', label: 'Review', action: 'entry:review' },
 	{ path: '/members', label: 'Members', action: 'member:read' },
 	{ path: '/invitations', label: 'Invitations', action: 'invitation:manage' },

@@ -222,7 +222,8 @@ export async function findTrace(db: Db, orgId: string, id: string): Promise<Stor
 
 const CURVE_COLUMNS = ['id', 'canonical', 'sourcePeakV', 'sourceResistanceOhm', 'frequencyHz', 'periods', 'simulated'] as const;
 
-function toCurve(r: {
+/** A stored row's canonical curve (SI units, canonical phase grid). */
+export function toCurve(r: {
 	canonical: unknown;
 	sourcePeakV: number;
 	sourceResistanceOhm: number;

@@ -4,9 +4,8 @@ import { apiError, toApiIssues } from '$lib/server/api/errors';
 import { requireMember } from '$lib/server/auth/guard';
 import { can } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
-import { findEntriesByIds } from '$lib/server/entries/queries';
-import { readerFor } from '$lib/server/entries/rules';
-import { matchIndexes, rankTraces } from '$lib/server/match';
+import { matchIndexes } from '$lib/server/match';
+import { matchCapture } from '$lib/server/match/capture';
 import { insertTrace } from '$lib/server/traces/service';
 import { readCaptureUpload } from '$lib/server/traces/upload';
 import type { RequestHandler } from './$types';
@@ -22,12 +21,10 @@ export const POST: RequestHandler = async ({ params, request, url }) => {
 	const options = matchOptions.safeParse({ ...Object.fromEntries(url.searchParams), ...read.fields });
 	if (!options.success) return apiError(400, 'invalid_input', 'The match options are not valid.', toApiIssues(options.error.issues));
 	const o = options.data;
-	const reader = readerFor(member);
-	const ranked = await rankTraces(db, matchIndexes(), member.orgId, reader, read.processed.curve, {
+	const matches = await matchCapture(db, matchIndexes(), member, read.processed, {
 		limit: o.limit,
 		filters: { componentKind: o.componentKind, assembly: o.assembly, tags: o.tags, role: o.traceRole }
 	});
-	const entries = await findEntriesByIds(db, member.orgId, [...new Set(ranked.map((r) => r.entryId))], reader);
 	let savedTraceId: string | null = null;
 	if (o.save && can(member.role, 'trace:upload')) {
 		savedTraceId = await insertTrace(db, member.orgId, {
@@ -51,18 +48,7 @@ export const POST: RequestHandler = async ({ params, request, url }) => {
 			canonical: { v: p.curve.v, i: p.curve.i },
 			savedTraceId
 		},
-		matches: ranked
-			.filter((r) => entries.has(r.entryId))
-			.map((r) => {
-				const e = entries.get(r.entryId)!;
-				return {
-					entry: { id: e.id, title: e.title, symptom: e.symptom, fix: e.fix, status: e.status, componentKind: e.componentKind },
-					trace: { id: r.traceId, role: r.role, conditions: r.curve.conditions, canonical: { v: r.curve.v, i: r.curve.i } },
-					similarity: Math.round(r.comparison.similarity * 10) / 10,
-					distance: r.comparison.distance,
-					comparable: r.comparison.comparable
-				};
-			}),
-		empty: ranked.length === 0 ? 'No stored traces to compare with yet. Publish entries with traces, or widen the filters.' : null
+		matches,
+		empty: matches.length === 0 ? 'No stored traces to compare with yet. Publish entries with traces, or widen the filters.' : null
 	});
 };

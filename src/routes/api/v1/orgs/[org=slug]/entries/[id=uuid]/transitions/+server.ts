@@ -20,6 +20,6 @@ export const POST: RequestHandler = async ({ params, request, url }) => {
 	const result = await changeEntryStatus(db, member, params.id, parsed.data.action, parsed.data.comment, url.origin);
 	if (result.kind === 'done') return json({ entry: entryJson(result.entry) });
 	if (result.kind === 'not_found') error(404, { message: 'Not found', error: { code: 'not_found', message: 'No such entry.' } });
-	const status = result.reason === 'forbidden' ? 403 : result.reason === 'comment_required' ? 400 : 409;
+	const status = result.reason === 'forbidden' ? 403 : result.reason === 'comment_required' || result.reason === 'symptom_required' ? 400 : 409;
 	return apiError(status, result.reason === 'forbidden' ? 'forbidden' : 'invalid_transition', TRANSITION_MESSAGES[result.reason]);
 };
