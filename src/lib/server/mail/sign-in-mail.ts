@@ -1,3 +1,4 @@
+import { escapeHtml } from './send';
 /** The product name as it appears in mail. */
 const PRODUCT = 'Curvelore';
 
@@ -9,8 +10,6 @@ export interface SignInMail {
 
 // Mail clients ignore stylesheets and CSS variables, so the HTML carries inline colours copied
 // from the light theme in app.css.
-const escapeHtml = (s: string) =>
-	s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;').replace(/'/g, '&#39;');
 
 /** "30 minutes", "1 hour", "2 hours" — how long until `expires`, rounded to whole minutes. */
 export function describeValidity(expires: Date, now: Date): string {

@@ -1,9 +1,5 @@
-import { config } from '../env';
-import { DEFAULT_FROM, mailTransport } from '../mail/transport';
+import { escapeHtml } from '../mail/send';
 import { ROLE_LABELS, type Role } from '../auth/permissions';
-
-const escapeHtml = (s: string) =>
-	s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;').replace(/'/g, '&#39;');
 
 /** The invitation e-mail: who invites, to which organisation, with what role, and until when. Pure. */
 export function invitationMail(input: { url: string; orgName: string; role: Role; inviter: string; expiresAt: Date }) {
@@ -34,18 +30,3 @@ export function invitationMail(input: { url: string; orgName: string; role: Role
 	return { subject, text, html };
 }
 
-/**
- * Sends an invitation through the configured SMTP relay (or the local stand-in). Resolves false
- * instead of throwing when it cannot be sent: the invitation is saved either way and can be resent.
- */
-export async function sendInvitationMail(to: string, mail: { subject: string; text: string; html: string }): Promise<boolean> {
-	const { SMTP_URL, SMTP_FROM } = config();
-	if (!SMTP_URL) return false;
-	try {
-		const result = await mailTransport(SMTP_URL).sendMail({ to, from: SMTP_FROM ?? DEFAULT_FROM, ...mail });
-		return (result.rejected ?? []).length === 0;
-	} catch (e) {
-		console.error('Sending an invitation e-mail failed:', e instanceof Error ? e.message : e);
-		return false;
-	}
-}

@@ -3,7 +3,8 @@ import { z } from 'zod';
 import { requireMember, requireUser } from '$lib/server/auth/guard';
 import { ROLES, ROLE_LABELS } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
-import { invitationMail, sendInvitationMail } from '$lib/server/orgs/invitation-mail';
+import { sendMail } from '$lib/server/mail/send';
+import { invitationMail } from '$lib/server/orgs/invitation-mail';
 import { createInvitation, listPendingInvitations, resendInvitation, revokeInvitation } from '$lib/server/orgs/invitations';
 import { invitationCreate, invitationRef } from '$lib/schemas/orgs';
 import type { Actions, PageServerLoad } from './$types';
@@ -32,7 +33,7 @@ export const actions: Actions = {
 			createInvitation(trx, { orgId: member.orgId, email: parsed.data.email, role: parsed.data.role, invitedBy: member.userId })
 		);
 		if (!result.ok) return fail(409, { invite: { values, fieldErrors: { email: [result.message] } as InviteErrors } });
-		const mailed = await sendInvitationMail(
+		const mailed = await sendMail(
 			parsed.data.email,
 			invitationMail({ url: linkFor(url.origin, result.token), orgName: member.orgName, role: parsed.data.role, inviter: user.name ?? user.email, expiresAt: result.expiresAt })
 		);
@@ -49,7 +50,7 @@ export const actions: Actions = {
 		if (!parsed.success) return fail(400, { notice: 'That invitation no longer exists.' });
 		const sent = await db.transaction().execute((trx) => resendInvitation(trx, { orgId: member.orgId, id: parsed.data.id, actorId: member.userId }));
 		if (!sent) return fail(404, { notice: 'That invitation is no longer pending.' });
-		const mailed = await sendInvitationMail(
+		const mailed = await sendMail(
 			sent.email,
 			invitationMail({ url: linkFor(url.origin, sent.token), orgName: member.orgName, role: sent.role, inviter: user.name ?? user.email, expiresAt: sent.expiresAt })
 		);

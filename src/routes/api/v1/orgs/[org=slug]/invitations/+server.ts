@@ -2,7 +2,8 @@ import { json } from '@sveltejs/kit';
 import { requireMember, requireUser } from '$lib/server/auth/guard';
 import { apiError, readJson, toApiIssues } from '$lib/server/api/errors';
 import { db } from '$lib/server/db';
-import { invitationMail, sendInvitationMail } from '$lib/server/orgs/invitation-mail';
+import { sendMail } from '$lib/server/mail/send';
+import { invitationMail } from '$lib/server/orgs/invitation-mail';
 import { createInvitation, listPendingInvitations } from '$lib/server/orgs/invitations';
 import { invitationCreate } from '$lib/schemas/orgs';
 import type { RequestHandler } from './$types';
@@ -28,7 +29,7 @@ export const POST: RequestHandler = async ({ params, request, url }) => {
 		createInvitation(trx, { orgId: member.orgId, email: parsed.data.email, role: parsed.data.role, invitedBy: member.userId })
 	);
 	if (!result.ok) return apiError(409, 'conflict', result.message, [{ path: 'email', message: result.message }]);
-	const mailed = await sendInvitationMail(
+	const mailed = await sendMail(
 		parsed.data.email,
 		invitationMail({ url: `${url.origin}/invite/${result.token}`, orgName: member.orgName, role: parsed.data.role, inviter: user.name ?? user.email, expiresAt: result.expiresAt })
 	);
