@@ -1,23 +1,10 @@
-import type { EntryFields } from './schemas/entries';
+import { EDITABLE_FIELDS, type EntryFields } from './schemas/entries';
 
 /**
  * An entry as the editor's form holds it: every field a string, tags comma-separated, exactly
  * as typed. Shared by the form actions (to echo input back on error) and the browser's editor.
  */
-export const FORM_FIELDS = [
-	'title',
-	'componentKind',
-	'partNumber',
-	'package',
-	'assembly',
-	'testPoint',
-	'symptom',
-	'symptomDetail',
-	'cause',
-	'fix',
-	'body',
-	'tags'
-] as const satisfies readonly (keyof EntryFields)[];
+export const FORM_FIELDS = EDITABLE_FIELDS;
 export type FormField = (typeof FORM_FIELDS)[number];
 export type EntryFormValues = Record<FormField, string>;
 export type FieldErrors = Partial<Record<FormField, string[]>>;

@@ -113,6 +113,22 @@ const fieldRules = {
 };
 
 /** Every field a person edits on an entry; the optional ones default to empty. */
+/** The fields a writer edits, in the order forms, revisions and diffs show them. */
+export const EDITABLE_FIELDS = [
+	'title',
+	'componentKind',
+	'partNumber',
+	'package',
+	'assembly',
+	'testPoint',
+	'symptom',
+	'symptomDetail',
+	'cause',
+	'fix',
+	'body',
+	'tags'
+] as const;
+
 export const entryFields = z.object({
 	...fieldRules,
 	partNumber: fieldRules.partNumber.default(''),
@@ -126,6 +142,7 @@ export const entryFields = z.object({
 	tags: fieldRules.tags.default([])
 });
 export type EntryFields = z.infer<typeof entryFields>;
+EDITABLE_FIELDS satisfies readonly (keyof EntryFields)[];
 
 export const entryCreate = entryFields;
 export type EntryCreate = z.infer<typeof entryCreate>;

@@ -1,5 +1,5 @@
 import { type Kysely, type Selectable, type Transaction, sql } from 'kysely';
-import type { EntryFields, EntryListQuery, EntryStatus } from '../../schemas/entries';
+import { EDITABLE_FIELDS, type EntryFields, type EntryListQuery, type EntryStatus } from '../../schemas/entries';
 import type { Database } from '../db/connect';
 import type { Entry as EntryRow } from '../db/schema';
 
@@ -34,24 +34,10 @@ export interface Reader {
 	seesOwn: boolean;
 }
 
-const EDITABLE = [
-	'title',
-	'componentKind',
-	'partNumber',
-	'package',
-	'assembly',
-	'testPoint',
-	'symptom',
-	'symptomDetail',
-	'cause',
-	'fix',
-	'body',
-	'tags'
-] as const satisfies readonly (keyof EntryFields)[];
 
 /** The editable fields of an entry, as stored in a revision snapshot. */
 export function snapshotOf(entry: EntryFields): EntryFields {
-	return Object.fromEntries(EDITABLE.map((k) => [k, entry[k]])) as EntryFields;
+	return Object.fromEntries(EDITABLE_FIELDS.map((k) => [k, entry[k]])) as EntryFields;
 }
 
 function toEntry(row: Selectable<EntryRow> & { authorName: string | null; signatureClass: string | null }): Entry {
