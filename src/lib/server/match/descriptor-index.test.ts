@@ -27,7 +27,7 @@ describe('DescriptorIndex', () => {
 		}
 		for (let q = 0; q < 20; q++) {
 			const query = randomVector(r);
-			const got = index.search(query, c1, 10).map((c) => c.meta.traceId);
+			const got = index.search(query, c1, { candidates: 10 }).map((c) => c.meta.traceId);
 			const want = vectors
 				.map((v, n) => ({ n, d: descriptorDistance(v, query) }))
 				.sort((a, b) => a.d - b.d)
@@ -44,7 +44,7 @@ describe('DescriptorIndex', () => {
 		const far = base.map((_, k) => (k === 0 ? 0.5 : 0));
 		index.upsert({ traceId: 'same-shape-other-conditions', conditions: c2, data: null }, near);
 		index.upsert({ traceId: 'other-shape-same-conditions', conditions: c1, data: null }, far);
-		const result = index.search(base, c1, 5);
+		const result = index.search(base, c1, { candidates: 5 });
 		expect(result.map((c) => [c.meta.traceId, c.comparable])).toEqual([
 			['other-shape-same-conditions', true],
 			['same-shape-other-conditions', false]
@@ -57,13 +57,41 @@ describe('DescriptorIndex', () => {
 		index.upsert({ traceId: 'a', conditions: c1, data: { published: true } }, zero);
 		index.upsert({ traceId: 'b', conditions: c1, data: { published: false } }, zero);
 		index.upsert({ traceId: 'c', conditions: c1, data: { published: true } }, zero);
-		expect(index.search(zero, c1, 10, (m) => m.data.published).map((c) => c.meta.traceId).sort()).toEqual(['a', 'c']);
+		expect(index.search(zero, c1, { candidates: 10, accept: (m) => m.data.published }).map((c) => c.meta.traceId).sort()).toEqual(['a', 'c']);
 		index.upsert({ traceId: 'a', conditions: c1, data: { published: false } }, zero);
 		expect(index.size).toBe(3);
 		expect(index.remove('b')).toBe(true);
 		expect(index.remove('b')).toBe(false);
-		expect(index.search(zero, c1, 10).map((c) => c.meta.traceId).sort()).toEqual(['a', 'c']);
+		expect(index.search(zero, c1, { candidates: 10 }).map((c) => c.meta.traceId).sort()).toEqual(['a', 'c']);
 		expect(() => index.upsert({ traceId: 'x', conditions: c1, data: { published: true } }, [1, 2, 3])).toThrow(RangeError);
+	});
+});
+
+describe('traces under other conditions', () => {
+	it('are scanned only while fewer comparable traces than `enough` pass the filter', () => {
+		const index = new DescriptorIndex<{ published: boolean }>();
+		const zero = new Float32Array(DESCRIPTOR_LENGTH);
+		index.upsert({ traceId: 'here-1', conditions: c1, data: { published: true } }, zero);
+		index.upsert({ traceId: 'here-2', conditions: c1, data: { published: false } }, zero);
+		index.upsert({ traceId: 'elsewhere', conditions: c2, data: { published: true } }, zero);
+		const ids = (enough: number, accept?: (m: { data: { published: boolean } }) => boolean) =>
+			index.search(zero, c1, { candidates: 10, enough, accept }).map((c) => c.meta.traceId);
+		expect(ids(2)).toEqual(['here-1', 'here-2']);
+		expect(ids(3)).toEqual(['here-1', 'here-2', 'elsewhere']);
+		// Only accepted comparable traces count towards `enough`.
+		expect(ids(2, (m) => m.data.published)).toEqual(['here-1', 'elsewhere']);
+	});
+
+	it('move when a trace’s conditions change, and leave no copy behind', () => {
+		const index = new DescriptorIndex();
+		const zero = new Float32Array(DESCRIPTOR_LENGTH);
+		index.upsert({ traceId: 'a', conditions: c1, data: null }, zero);
+		index.upsert({ traceId: 'a', conditions: c2, data: null }, zero);
+		expect(index.size).toBe(1);
+		expect(index.search(zero, c1, { candidates: 10 }).map((c) => [c.meta.traceId, c.comparable])).toEqual([['a', false]]);
+		expect(index.remove('a')).toBe(true);
+		expect(index.search(zero, c2, { candidates: 10 })).toEqual([]);
+		expect(index.vectorBytes).toBe(0);
 	});
 });
 
@@ -77,7 +105,7 @@ describe('comparable conditions in the index', () => {
 			const b = { sourcePeakV: a.sourcePeakV * jitter(), sourceResistanceOhm: a.sourceResistanceOhm * jitter(), frequencyHz: a.frequencyHz * jitter() };
 			const index = new DescriptorIndex();
 			index.upsert({ traceId: 'b', conditions: b, data: null }, zero);
-			expect(index.search(zero, a, 1)[0].comparable).toBe(conditionsComparable(a, b));
+			expect(index.search(zero, a, { candidates: 1 })[0].comparable).toBe(conditionsComparable(a, b));
 		}
 	});
 });
@@ -101,6 +129,6 @@ describe('descriptor tail', () => {
 		const zero = new Float32Array(DESCRIPTOR_LENGTH);
 		index.upsert({ traceId: 'noisy', conditions: c1, data: null }, zero, 0.05);
 		index.upsert({ traceId: 'clean', conditions: c1, data: null }, zero, 0.01);
-		expect(index.search(zero, c1, 2).map((c) => c.meta.traceId)).toEqual(['clean', 'noisy']);
+		expect(index.search(zero, c1, { candidates: 2 }).map((c) => c.meta.traceId)).toEqual(['clean', 'noisy']);
 	});
 });

@@ -6,7 +6,8 @@ import type { Database } from '../db/connect';
 import { ENTRY_CHANGE_CHANNEL, type EntryChange } from '../entries/changes';
 import type { Reader } from '../entries/queries';
 import { findTraceCurves } from '../traces/service';
-import { DescriptorIndex, type TraceMeta } from './descriptor-index';
+import { DescriptorIndex, type Candidate, type TraceMeta } from './descriptor-index';
+import { compareUntilSettled } from './rerank';
 
 /** What the index keeps beside each descriptor, for filtering without a database round trip. */
 export interface TraceFacts {
@@ -203,14 +204,15 @@ export interface MatchResult {
 	curve: CanonicalCurve;
 }
 
-/** Fewest descriptor candidates re-ranked with the exact distance, whatever the library size. */
+/** Fewest descriptor candidates a query may re-rank with the exact distance, whatever the library size. */
 export const MIN_CANDIDATES = 40;
 /** Candidates per 100 000 stored traces (measured by `npm run bench -- match`). */
 export const CANDIDATES_PER_100K = 128;
 export const MAX_CANDIDATES = 4096;
 
 /**
- * How many descriptor candidates to re-rank exactly in a library of `size` traces. The descriptor
+ * How many descriptor candidates a query may re-rank exactly in a library of `size` traces (most
+ * stop earlier: see `compareUntilSettled`). The descriptor
  * score (truncated Parseval sum plus each trace's tail) orders traces like the exact distance up to
  * bench noise, so the true top ten sit among the traces whose score lies within a noise band of
  * theirs — and the number of traces in that band grows in proportion to the library. A fixed count
@@ -222,18 +224,9 @@ export function candidatesFor(size: number, limit: number): number {
 }
 
 /**
- * The candidates worth an exact comparison. Results list comparable conditions first, so once
- * there are `limit` comparable candidates no incomparable one can reach the results: comparing
- * them exactly (and loading their curves) would change nothing.
- */
-export function exactPool<C extends { comparable: boolean }>(candidates: C[], limit: number): C[] {
-	const near = candidates.filter((c) => c.comparable);
-	return near.length >= limit ? near : candidates;
-}
-
-/**
  * Stored traces ranked by shape against `query`: descriptor candidates from the index, re-ranked
- * by the exact engine distance, comparable conditions first. Only traces of entries the reader may
+ * by the exact engine distance until the top `limit` are settled (their curves loaded a batch at a
+ * time), comparable conditions first. Only traces of entries the reader may
  * see; tenancy is the organisation's own index.
  */
 export async function rankTraces(
@@ -257,16 +250,35 @@ export async function rankTraces(
 			(!f.tags?.length || f.tags.every((t) => d.tags.includes(t)))
 		);
 	};
-	const candidates = index.search(descriptor(query), query.conditions, candidatesFor(index.size, options.limit), accept);
-	if (candidates.length === 0) return [];
-	const pool = exactPool(candidates, options.limit);
-	const curves = await findTraceCurves(db, orgId, pool.map((c) => c.meta.traceId));
-	return pool
-		.filter((c) => curves.has(c.meta.traceId))
-		.map((c) => {
-			const curve = curves.get(c.meta.traceId)!;
-			return { traceId: c.meta.traceId, entryId: c.meta.data.entryId, role: c.meta.data.role, comparison: compare(query, curve), curve };
-		})
+	// Incomparable traces are only needed when comparable ones cannot fill the results (they rank below).
+	const pool = index.search(descriptor(query), query.conditions, {
+		candidates: candidatesFor(index.size, options.limit),
+		enough: options.limit,
+		accept
+	});
+	const compared = new Map<string, { comparison: Comparison; curve: CanonicalCurve }>();
+	const exact = async (batch: Candidate<TraceFacts>[]) => {
+		const curves = await findTraceCurves(db, orgId, batch.map((c) => c.meta.traceId));
+		return batch.map((c) => {
+			const curve = curves.get(c.meta.traceId);
+			if (!curve) return undefined;
+			const comparison = compare(query, curve);
+			compared.set(c.meta.traceId, { comparison, curve });
+			return comparison.distance;
+		});
+	};
+	const score = (c: Candidate<TraceFacts>) => c.descriptorDistance;
+	const near = await compareUntilSettled(
+		pool.filter((c) => c.comparable),
+		options.limit,
+		score,
+		exact
+	);
+	// Incomparable candidates come only when the comparable ones cannot fill the results.
+	const rest = options.limit - near.length;
+	const far = rest > 0 ? await compareUntilSettled(pool.filter((c) => !c.comparable), rest, score, exact) : [];
+	return [...near, ...far]
+		.map(({ candidate: c }) => ({ traceId: c.meta.traceId, entryId: c.meta.data.entryId, role: c.meta.data.role, ...compared.get(c.meta.traceId)! }))
 		.sort((a, b) => Number(b.comparison.comparable) - Number(a.comparison.comparable) || a.comparison.distance - b.comparison.distance)
 		.slice(0, options.limit);
 }
