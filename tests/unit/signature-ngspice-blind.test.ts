@@ -4,14 +4,20 @@
  * a non-whole number of periods, noise of 0.5–1.5 % of full scale, quantisation, every file
  * format), and the pipeline parse → canonicalise → analyse → compare must recover what went in.
  * Thresholds are the product's targets: class ≥ 98 %, R within 2 %, C and L within 5 %, knee
- * within 50 mV, breakdown within 3 %, the right library curve first ≥ 95 % and in the top five.
+ * within 50 mV, breakdown within 3 %, the right library curve first ≥ 95 % and in the top five,
+ * and the app's match index (descriptor scan + settled re-rank) agreeing with the exact scan.
  */
 import { beforeAll, describe, expect, it } from 'vitest';
 import { analyseCapture } from '../../src/lib/signature/index';
-import { compare } from '../../src/lib/signature/compare';
+import { compare, descriptor, descriptorTail } from '../../src/lib/signature/compare';
+import { simulate } from '../../src/lib/signature/simulate';
+import { DescriptorIndex } from '../../src/lib/server/match/descriptor-index';
+import { candidatesFor } from '../../src/lib/server/match/registry';
+import { compareUntilSettled } from '../../src/lib/server/match/rerank';
 import { KNEE_CURRENT_FRACTION } from '../../src/lib/signature/analyse';
 import type { CanonicalCurve, DeviceModel, SignatureClass, TestConditions } from '../../src/lib/signature/types';
 import { logUniform, pick, randomStyle, seededRandom, synthesiseSamples, uniform, writeCapture } from '../support/captures';
+import { withNoise } from '../support/analytic';
 import { type OracleCase, runNgspice } from '../support/ngspice';
 
 const rng = seededRandom(20261201);
@@ -180,5 +186,57 @@ describe('ranking against a library of ngspice curves with near neighbours', () 
 			}
 		}
 		expect(first / queries).toBeGreaterThanOrEqual(0.95);
+	}, 120_000);
+
+	// The app does not compare a capture with every stored curve: it scans descriptors and re-ranks
+	// candidates until the top is settled (DescriptorIndex + compareUntilSettled, as rankTraces
+	// does). On ngspice captures, among thousands of stored curves of the same kinds of part, that
+	// must give what the exact scan over every curve gives.
+	it('ranks through the match index as the exact scan does, in a library padded with 3 000 near neighbours', async () => {
+		const pad = seededRandom(7);
+		const distractors: CanonicalCurve[] = [];
+		for (let n = 0; n < 3000; n++) {
+			const kind = n % 4;
+			const model: DeviceModel =
+				kind === 0
+					? { kind: 'resistor', ohms: logUniform(pad, 300, 6000) }
+					: kind === 1
+						? { kind: 'capacitor', farads: logUniform(pad, 0.15e-6, 3e-6) }
+						: kind === 2
+							? { kind: 'parallel', parts: [{ kind: 'capacitor', farads: logUniform(pad, 0.3e-6, 3e-6) }, { kind: 'resistor', ohms: logUniform(pad, 1000, 20_000) }] }
+							: { kind: 'diode', is: logUniform(pad, 1e-13, 1e-8), n: uniform(pad, 1, 2), rs: uniform(pad, 0.1, 2), ...(pad() < 0.5 ? { bv: uniform(pad, 4, 8), ibv: 1e-3 } : {}) };
+			distractors.push(withNoise(simulate(model, c), 0.005, pad));
+		}
+		const all = [...library, ...distractors];
+		const index = new DescriptorIndex<number>();
+		all.forEach((curve, j) => {
+			const d = descriptor(curve);
+			index.upsert({ traceId: `t${j}`, conditions: curve.conditions, data: j }, d, descriptorTail(curve, d));
+		});
+		let agreeFirst = 0;
+		let found = 0;
+		let queries = 0;
+		for (const [k] of models.entries()) {
+			for (let rep = 0; rep < 2; rep++) {
+				const samples = synthesiseSamples(dense[k], { rng, ...benchLike() });
+				const file = writeCapture(samples, randomStyle(rng));
+				const query = analyseCapture(file.text, c, file.parseOptions).curve;
+				const exact = all
+					.map((curve, j) => ({ j, d: compare(query, curve).distance }))
+					.sort((a, b) => a.d - b.d)
+					.slice(0, 5)
+					.map((r) => r.j);
+				const pool = index.search(descriptor(query), query.conditions, { candidates: candidatesFor(index.size, 5), enough: 5 });
+				const ranked = (await compareUntilSettled(pool, 5, (p) => p.descriptorDistance, (batch) => batch.map((p) => compare(query, all[p.meta.data]).distance)))
+					.sort((a, b) => a.distance - b.distance)
+					.slice(0, 5)
+					.map((r) => r.candidate.meta.data);
+				if (ranked[0] === exact[0]) agreeFirst++;
+				found += exact.filter((j) => ranked.includes(j)).length;
+				queries++;
+			}
+		}
+		expect(agreeFirst / queries).toBeGreaterThanOrEqual(0.99);
+		expect(found / (5 * queries)).toBeGreaterThanOrEqual(0.99);
 	}, 120_000);
 });
