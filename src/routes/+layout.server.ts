@@ -7,7 +7,8 @@ export const load: LayoutServerLoad = async (event) => {
 	const principal = await currentPrincipal(event);
 	// Only what the top bar shows; never tokens or session data.
 	const user = principal ? { id: principal.user.id, name: principal.user.name, email: principal.user.email } : null;
-	// The organisation switcher lists the user's organisations (names and slugs only).
-	const orgs = principal ? (await listOrgsOfUser(db, principal.user.id)).map((o) => ({ slug: o.slug, name: o.name })) : [];
+	// The organisation switcher and the home page list the user's organisations (names, slugs and
+	// the user's own role in each).
+	const orgs = principal ? (await listOrgsOfUser(db, principal.user.id)).map((o) => ({ slug: o.slug, name: o.name, role: o.role })) : [];
 	return { user, orgs };
 };

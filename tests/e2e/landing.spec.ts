@@ -7,6 +7,8 @@ test('the landing page states the job, shows the safety caution and uses the bun
 	await expect(caution).toBeVisible();
 	await expect(caution).toContainText('unpowered and discharged');
 	await expect(caution).toContainText('mains voltage');
+	// Signed out, the way in is on the page itself.
+	await expect(page.getByRole('main').getByRole('link', { name: 'Sign in' })).toHaveAttribute('href', '/login');
 
 	// The font is served by the app itself (no CDN) and actually loads.
 	const loaded = await page.evaluate(async () => {

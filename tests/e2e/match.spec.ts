@@ -37,7 +37,13 @@ async function setConditions(page: import('@playwright/test').Page) {
 test('a simulated leaky capacitor finds its demo entry, previewed before matching, and the conditions are remembered', async ({ page }) => {
 	const file = simulatedCapture();
 	await page.setViewportSize({ width: 390, height: 844 });
-	await signIn(page, AUTHOR, { redirectTo: '/o/fernhollow/match' });
+	// Signed in, the start page lists the newcomer's organisation with the way in.
+	await signIn(page, AUTHOR);
+	await page.goto('/');
+	const mine = page.getByRole('region', { name: 'Your organisations' });
+	await expect(mine.getByRole('link', { name: 'Fernhollow Drive & Supply Repairs (demo)' })).toBeVisible();
+	await mine.getByRole('link', { name: 'Match a capture' }).click();
+	await expect(page).toHaveURL(/\/o\/fernhollow\/match$/);
 	await expect(page.getByRole('heading', { name: 'Match a capture' })).toBeVisible();
 	await expect(page.getByTestId('safety-caution')).toBeVisible();
 	await setConditions(page);
