@@ -14,16 +14,16 @@ import { signIn } from './support/sign-in';
 const TITLE = 'Leaky electrolytic C8 on the 12 V rail';
 const AUTHOR = 'teodor.author@fernhollow.example';
 
-function simulatedCapture(): string {
+function simulatedCapture(points = 256): string {
 	const dir = join('test-output', 'e2e-match');
 	mkdirSync(dir, { recursive: true });
 	const model = join(dir, 'leaky-cap.json');
 	writeFileSync(model, JSON.stringify({ kind: 'parallel', parts: [{ kind: 'capacitor', farads: 4.7e-6 }, { kind: 'resistor', ohms: 2200 }] }));
 	// `npm run --silent signature -- simulate …` runs this same script through tsx.
-	const csv = execFileSync('node_modules/.bin/tsx', ['scripts/signature.ts', 'simulate', '--model', model, '--vs', '10', '--rs', '1k', '--f', '60', '--csv'], {
+	const csv = execFileSync('node_modules/.bin/tsx', ['scripts/signature.ts', 'simulate', '--model', model, '--vs', '10', '--rs', '1k', '--f', '60', '--points', String(points), '--csv'], {
 		encoding: 'utf8'
 	});
-	const file = join(dir, 'leaky-cap.csv');
+	const file = join(dir, `leaky-cap-${points}.csv`);
 	writeFileSync(file, csv);
 	return file;
 }
@@ -77,6 +77,20 @@ test('a simulated leaky capacitor finds its demo entry, previewed before matchin
 	await expect(page.getByLabel(/Source resistance Rs/)).toHaveValue('1000');
 	await expect(page.getByLabel(/Frequency f/)).toHaveValue('60');
 	await page.screenshot({ path: 'test-output/e2e-match/match.png', fullPage: true });
+});
+
+test('a large capture is read in a worker thread, and still previews and matches', async ({ page }) => {
+	// 40 000 rows (about 1.4 MB): past the size from which the browser reads captures off the page's thread.
+	const file = simulatedCapture(40_000);
+	await signIn(page, AUTHOR, { redirectTo: '/o/fernhollow/match' });
+	await setConditions(page);
+	const worker = page.waitForEvent('worker');
+	await page.getByLabel('Capture file').setInputFiles(file);
+	await worker;
+	const preview = page.getByTestId('capture-preview');
+	await expect(preview.getByTestId('analysis')).toContainText('capacitive');
+	await page.getByRole('button', { name: 'Match', exact: true }).click();
+	await expect(page.getByTestId('match-card').first().getByTestId('match-title')).toHaveText(TITLE);
 });
 
 test('a file that is too large is refused in the browser before any upload', async ({ page }) => {
