@@ -21,7 +21,8 @@ function simulatedCapture(points = 256): string {
 	writeFileSync(model, JSON.stringify({ kind: 'parallel', parts: [{ kind: 'capacitor', farads: 4.7e-6 }, { kind: 'resistor', ohms: 2200 }] }));
 	// `npm run --silent signature -- simulate …` runs this same script through tsx.
 	const csv = execFileSync('node_modules/.bin/tsx', ['scripts/signature.ts', 'simulate', '--model', model, '--vs', '10', '--rs', '1k', '--f', '60', '--points', String(points), '--csv'], {
-		encoding: 'utf8'
+		encoding: 'utf8',
+		maxBuffer: 64 * 1024 * 1024
 	});
 	const file = join(dir, `leaky-cap-${points}.csv`);
 	writeFileSync(file, csv);

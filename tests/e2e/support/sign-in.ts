@@ -64,7 +64,7 @@ export async function signOut(page: Page): Promise<void> {
 	const menu = page.getByTestId('user-menu');
 	await menu.locator('summary').click();
 	await menu.getByRole('button', { name: 'Sign out' }).click();
-	await expect(page.getByRole('link', { name: 'Sign in' })).toBeVisible();
+	await expect(page.getByRole('banner').getByRole('link', { name: 'Sign in' })).toBeVisible();
 	// The session row is gone now, so no cached copy of it may be reused.
 	sessions.clear();
 }
