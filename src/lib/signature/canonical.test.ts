@@ -192,6 +192,67 @@ describe('canonicalise', () => {
 		expect(canonicalise(clipped, c).warnings!.join(' ')).toMatch(/clipped/);
 	});
 
+	// A junction passes no current in reverse and holds its forward drop; a zener holds its
+	// breakdown voltage (facts of the trade). A quiet or coarsely quantised capture then repeats one
+	// value for a long stretch, yet V + I·Rs still follows the source there: that is the part, not a
+	// saturated scope range.
+	it('does not call a junction or a zener clipped for holding a channel flat by itself', () => {
+		const c = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 };
+		for (const reverse of [null, 5.1]) {
+			for (const [noise, bits] of [
+				[0, 0],
+				[0, 8],
+				[0.002, 8]
+			]) {
+				const s = synthesiseSamples(kneeCurve(c, 0.65, reverse, 4096), { rng: seededRandom(8), noise, bits, samplesPerPeriod: 500, periods: 4.5 });
+				const warnings = canonicalise(s, c).warnings!.join(' ');
+				expect(warnings, `reverse ${reverse}, noise ${noise}, ${bits} bits`).not.toMatch(/clipped/);
+			}
+		}
+	});
+
+	// The source identity e = V + I·Rs (the tester's own circuit) and passivity (an unpowered part
+	// cannot give out net power) together tell a current channel recorded the wrong way round.
+	it('turns a current recorded the wrong way round back, says so, and gives the same curve', () => {
+		const rng = seededRandom(31);
+		for (let n = 0; n < 30; n++) {
+			const c = randomConditions(rng);
+			const rs = c.sourceResistanceOhm;
+			const w = 2 * Math.PI * c.frequencyHz;
+			const curve =
+				n % 3 === 0
+					? linearCurve({ kind: 'resistor', ohms: rs * logUniform(rng, 0.2, 5) }, c, 4096)
+					: n % 3 === 1
+						? kneeCurve(c, (0.05 + 0.25 * rng()) * c.sourcePeakV, rng() < 0.5 ? null : 0.5 * c.sourcePeakV, 4096)
+						: linearCurve({ kind: 'capacitor', farads: 1 / (w * rs * logUniform(rng, 0.3, 3)), leakageOhm: rs * logUniform(rng, 0.3, 3) }, c, 4096);
+			const s = synthesiseSamples(curve, { rng, noise: 0.005, samplesPerPeriod: 400, periods: 3.5 });
+			const upright = canonicalise(s, c);
+			const reversed = canonicalise({ ...s, i: s.i.map((x) => -x) }, c);
+			const label = `case ${n} at ${JSON.stringify(c)}`;
+			expect(upright.warnings!.join(' '), label).not.toMatch(/wrong way round/);
+			expect(reversed.warnings!.join(' '), label).toMatch(/current read the wrong way round/);
+			for (let k = 0; k < upright.in.length; k += 16) expect(reversed.in[k], label).toBeCloseTo(upright.in[k], 9);
+		}
+	});
+
+	it('leaves the current alone when a wrong Rs is what makes V − I·Rs look like the source', () => {
+		// A 1 kΩ resistor at Rs = 1 kΩ with 3 kΩ entered: V − I·Rs(entered) = −e has amplitude Vs, but
+		// the part absorbs power as recorded, so nothing is turned round (the amplitude warning stays).
+		const c = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 };
+		const s = synthesiseSamples(linearCurve({ kind: 'resistor', ohms: 1000 }, c, 4096), { rng: seededRandom(4), noise: 0.003, samplesPerPeriod: 400, periods: 3.5 });
+		const warnings = canonicalise(s, { ...c, sourceResistanceOhm: 3000 }).warnings!.join(' ');
+		expect(warnings).not.toMatch(/wrong way round/);
+		expect(warnings).toMatch(/amplitude/);
+	});
+
+	it('still calls a junction clipped when the current range saturates in forward conduction', () => {
+		const c = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 };
+		const s = synthesiseSamples(kneeCurve(c, 0.65, null, 4096), { rng: seededRandom(8), noise: 0.002, samplesPerPeriod: 500, periods: 4.5 });
+		const rail = 0.5 * Math.max(...s.i);
+		const clipped = { ...s, i: s.i.map((x) => Math.min(rail, x)) };
+		expect(canonicalise(clipped, c).warnings!.join(' ')).toMatch(/current sits at its maximum .* clipped/);
+	});
+
 	it('honours the number of points asked for', () => {
 		const c = { sourcePeakV: 10, sourceResistanceOhm: 1000, frequencyHz: 60 };
 		const s = synthesiseSamples(linearCurve({ kind: 'resistor', ohms: 1000 }, c, 4096), { rng: seededRandom(1), noise: 0.001, samplesPerPeriod: 5000, periods: 3 });
@@ -221,8 +282,9 @@ describe('canonicalise', () => {
 		const rng = seededRandom(99);
 		const noiseOnly = { v: s.v.map(() => gaussian(rng)), i: s.i.map(() => gaussian(rng) / 1000) };
 		expect(code(() => canonicalise(noiseOnly, c))).toBe('no_period');
-		// v + i·Rs constant: no source signal at all.
-		const flat = { v: s.i.map((x) => 1 - x * 1000), i: s.i };
+		// v + i·Rs constant: no source signal at all (and v − i·Rs is no source either: its amplitude
+		// is half of Vs, so this is not a current recorded the wrong way round).
+		const flat = { v: s.i.map((x) => 1 - 0.5 * x * 1000), i: s.i.map((x) => 0.5 * x) };
 		expect(code(() => canonicalise(flat, c))).toBe('no_period');
 	});
 

@@ -34,8 +34,13 @@
  * 5. Warnings for the technician: the reconstructed source's amplitude is not Vs, or it is not a
  *    clean sine (its distortion, after removing the white noise estimated from sample-to-sample
  *    differences, exceeds 3 % of Vs) — wrong Rs, Vs or units entered; a DC offset; the time column
- *    disagrees with f; a channel that sits at its extreme value for ≥ 5 % of the samples (clipped);
- *    periods that disagree (the part or probes moved).
+ *    disagrees with f; a channel that sits at its extreme value for ≥ 5 % of the samples while the
+ *    source reconstructed there departs from the sine (clipped — a junction's zero reverse current
+ *    or a zener's held voltage keeps the identity and is not reported); periods that disagree (the
+ *    part or probes moved).
+ * 6. A current recorded the wrong way round (sense resistor or probe reversed) is turned back with
+ *    a warning, when V − I·Rs carries the source instead of V + I·Rs and the part as recorded would
+ *    give out power (`currentLooksInverted`).
  */
 import { testConditions } from './conditions';
 import { toCanonical } from './curve';
@@ -369,12 +374,12 @@ export function canonicalise(
 	}
 	const c = checked.data;
 	const N = Math.max(8, Math.floor(options.points ?? CANONICAL_POINTS));
-	const { v, i } = samples;
+	const { v } = samples;
 	const n = v.length;
-	if (n < MIN_SAMPLES || i.length !== n) {
+	if (n < MIN_SAMPLES || samples.i.length !== n) {
 		throw new SignatureError(
 			'too_few_samples',
-			`The capture has ${Math.min(n, i.length)} usable samples; at least ${MIN_SAMPLES} are needed.`
+			`The capture has ${Math.min(n, samples.i.length)} usable samples; at least ${MIN_SAMPLES} are needed.`
 		);
 	}
 	const t = samples.t && samples.t.length === n ? samples.t : null;
@@ -383,11 +388,46 @@ export function canonicalise(
 	const isc = vs / rs;
 	const warnings: string[] = [];
 
+	const xAt = t ? (k: number) => t[k] : (k: number) => k;
+	let i = samples.i;
 	const e = new Float64Array(n);
 	for (let k = 0; k < n; k++) e[k] = v[k] + i[k] * rs;
-	const model = findPhase(e, t, samples, c, warnings);
+	// The period is found before the current's sign is checked (both signs share it); the first
+	// search's warnings stand only if the current is kept as recorded.
+	const first: string[] = [];
+	let model: PhaseModel | null = null;
+	let refusal: SignatureError | null = null;
+	try {
+		model = findPhase(e, t, samples, c, first);
+	} catch (err) {
+		if (!(err instanceof SignatureError && err.code === 'no_period')) throw err;
+		refusal = err;
+	}
+	// A reversed current shows first as a part giving out power over the record (checked loosely
+	// here, strictly on whole periods below). Its period is then looked for in V + I·Rs and in
+	// V − I·Rs: a reversed junction's V + I·Rs repeats twice a period, or not at all.
+	let reversed = false;
+	if (meanPower(v, i) < -0.002 * vs * (vs / rs)) {
+		const found = model ? model.omega : null;
+		reversed = found !== null && currentLooksInverted(v, i, vs, rs, xAt, found);
+		if (!reversed) {
+			const other = reversedPeriod(v, i, rs, t, samples, c);
+			reversed = other !== null && currentLooksInverted(v, i, vs, rs, xAt, other);
+		}
+	}
+	if (reversed) {
+		i = Array.from(i, (x) => -x);
+		warnings.push(
+			'The current read the wrong way round: V − I·Rs follows the source and V + I·Rs does not, and the part would be giving out power. It was inverted; check the polarity of the sense resistor or current probe.'
+		);
+		for (let k = 0; k < n; k++) e[k] = v[k] + i[k] * rs;
+		model = findPhase(e, t, { ...samples, i }, c, warnings);
+	} else if (model) {
+		warnings.push(...first);
+	} else {
+		throw refusal;
+	}
 	const { omega, x0, phase } = model;
-	const xAt = t ? (k: number) => t[k] : (k: number) => k;
 	const theta0 = omega * (xAt(0) - x0) + phase;
 	const theta1 = omega * (xAt(n - 1) - x0) + phase;
 	// n samples stand for n sample intervals of the record.
@@ -505,9 +545,9 @@ export function canonicalise(
 	}
 
 	// Step 5: checks on the source and the channels.
-	checkSource(e, xAt, model, vs, warnings);
-	checkClipping(v, vs, 'voltage', warnings);
-	checkClipping(i, isc, 'current', warnings);
+	const source = checkSource(e, xAt, model, vs, warnings);
+	checkClipping(v, vs, 'voltage', source, warnings);
+	checkClipping(i, isc, 'current', source, warnings);
 	if (periodSpread !== null && periodSpread > 0.05) {
 		warnings.push(
 			`The periods disagree by ${pct(periodSpread)} of full scale: the part, the probes or the conditions may have changed during the capture.`
@@ -527,14 +567,104 @@ export function canonicalise(
 	return curve;
 }
 
-/** Amplitude, distortion and offset of the reconstructed source (module comment, step 5). */
+function meanPower(v: ArrayLike<number>, i: ArrayLike<number>): number {
+	let p = 0;
+	for (let k = 0; k < v.length; k++) p += v[k] * i[k];
+	return p / v.length;
+}
+
+/** The source's angular frequency found in V − I·Rs, or null when that holds no source either. */
+function reversedPeriod(v: ArrayLike<number>, i: ArrayLike<number>, rs: number, t: ArrayLike<number> | null, samples: Samples, c: TestConditions): number | null {
+	const e = new Float64Array(v.length);
+	for (let k = 0; k < v.length; k++) e[k] = v[k] - i[k] * rs;
+	try {
+		return findPhase(e, t, samples, c, []).omega;
+	} catch {
+		return null;
+	}
+}
+
+/**
+ * Whether the current channel was recorded with its sign reversed (sense resistor or current probe
+ * the wrong way round). The tester's source obeys e = V + I·Rs with amplitude Vs, whatever the part;
+ * with the current reversed, V − I·Rs has that amplitude instead. Two checks, both required, on the
+ * record's whole periods at the source frequency found (`omega`): the part as recorded gives out net
+ * power (mean V·I below −1 % of Vs·Isc), which no unpowered part can; and V − I·Rs reaches Vs within
+ * 10 % and clearly closer (by 2 % of Vs) than V + I·Rs, amplitudes from least-squares sine fits. The
+ * power check keeps a wrong Rs entered, which can also make V − I·Rs look right, from being taken
+ * for a reversed probe. A lossless part (an ideal capacitor or inductor) gives out no net power
+ * either way and is left as recorded; so is a part that draws almost no current, where the sign
+ * hardly shows.
+ */
+function currentLooksInverted(
+	v: ArrayLike<number>,
+	i: ArrayLike<number>,
+	vs: number,
+	rs: number,
+	xAt: (k: number) => number,
+	omega: number
+): boolean {
+	const n = v.length;
+	const x0 = xAt(0);
+	const cycles = ((omega * (xAt(n - 1) - x0)) / TWO_PI) * (n / (n - 1));
+	const whole = Math.floor(cycles + 1e-9);
+	if (!(whole >= 1)) return false;
+	const limit = whole * TWO_PI;
+	// Normal equations of e ≈ a·sin θ + b·cos θ + c, shared by both signs, and the power.
+	let ss = 0, sc = 0, s1 = 0, cc = 0, c1 = 0, m = 0;
+	let ps = 0, pc = 0, p1 = 0, qs = 0, qc = 0, q1 = 0;
+	let power = 0;
+	for (let k = 0; k < n; k++) {
+		const th = omega * (xAt(k) - x0);
+		if (th >= limit) break;
+		const sn = Math.sin(th);
+		const cs = Math.cos(th);
+		const plus = v[k] + i[k] * rs;
+		const minus = v[k] - i[k] * rs;
+		ss += sn * sn;
+		sc += sn * cs;
+		s1 += sn;
+		cc += cs * cs;
+		c1 += cs;
+		m++;
+		ps += plus * sn;
+		pc += plus * cs;
+		p1 += plus;
+		qs += minus * sn;
+		qc += minus * cs;
+		q1 += minus;
+		power += v[k] * i[k];
+	}
+	if (m < MIN_SAMPLES) return false;
+	const normal = [ss, sc, s1, cc, c1, m];
+	const fp = solve3(normal, [ps, pc, p1]);
+	const fm = solve3(normal, [qs, qc, q1]);
+	if (!fp || !fm) return false;
+	const missPlus = Math.abs(Math.hypot(fp[0], fp[1]) / vs - 1);
+	const missMinus = Math.abs(Math.hypot(fm[0], fm[1]) / vs - 1);
+	const gives = power / m < -0.01 * vs * (vs / rs);
+	return gives && missMinus < 0.1 && missPlus > missMinus + 0.02;
+}
+
+/** How each sample's reconstructed source departs from the fitted sine, and its white noise. */
+interface SourceFit {
+	residual: Float64Array;
+	noise: number;
+	vs: number;
+}
+
+/**
+ * Amplitude, distortion and offset of the reconstructed source (module comment, step 5). Returns
+ * the per-sample residual for the clipping check.
+ */
 function checkSource(
 	e: Float64Array,
 	xAt: (k: number) => number,
 	model: PhaseModel,
 	vs: number,
 	warnings: string[]
-): void {
+): SourceFit {
+	const residual = new Float64Array(e.length);
 	const n = e.length;
 	const { omega, x0, phase, amp, offset } = model;
 	let sumR2 = 0;
@@ -554,6 +684,7 @@ function checkSource(
 			cs = Math.cos(th);
 		}
 		const r = e[k] - (amp * sn + offset);
+		residual[k] = r;
 		sumR2 += r * r;
 		if (k > 0) sumD2 += (r - prev) * (r - prev);
 		prev = r;
@@ -579,6 +710,7 @@ function checkSource(
 			`The capture has a DC offset of ${Number(offset.toPrecision(3))} V in V + I·Rs: check the scope's offset and coupling.`
 		);
 	}
+	return { residual, noise: Math.sqrt(noiseVar), vs };
 }
 
 /**
@@ -608,8 +740,14 @@ function uniformSpacing(xAt: (k: number) => number, n: number, step: number): bo
 	return true;
 }
 
-/** Warns when a channel sits at its extreme value for ≥ 5 % of the samples. */
-function checkClipping(x: ArrayLike<number>, fullScale: number, name: string, warnings: string[]): void {
+/**
+ * Warns when a channel sits at its extreme value for ≥ 5 % of the samples while the source
+ * reconstructed there departs from the sine: a scope range that saturated. A part can hold a
+ * channel flat by itself — a junction passes no current in reverse, a zener holds its voltage — and
+ * then V + I·Rs still follows the source (the identity e = V + I·Rs holds for whatever the part
+ * does), so a flat stretch that keeps the identity is the part, not the scope, and is not reported.
+ */
+function checkClipping(x: ArrayLike<number>, fullScale: number, name: string, source: SourceFit, warnings: string[]): void {
 	const n = x.length;
 	let lo = Infinity;
 	let hi = -Infinity;
@@ -621,13 +759,27 @@ function checkClipping(x: ArrayLike<number>, fullScale: number, name: string, wa
 	const tol = (hi - lo) * 1e-9;
 	let atLo = 0;
 	let atHi = 0;
+	let loR2 = 0;
+	let hiR2 = 0;
 	for (let k = 0; k < n; k++) {
-		if (x[k] - lo <= tol) atLo++;
-		if (hi - x[k] <= tol) atHi++;
+		const r2 = source.residual[k] ** 2;
+		if (x[k] - lo <= tol) {
+			atLo++;
+			loR2 += r2;
+		}
+		if (hi - x[k] <= tol) {
+			atHi++;
+			hiR2 += r2;
+		}
 	}
-	if (atLo >= 0.05 * n || atHi >= 0.05 * n) {
+	// A source departing by more than 2 % of Vs (RMS, and well above the samples' noise) on the flat stretch.
+	const floor = Math.max(0.02 * source.vs, 3 * source.noise);
+	const clippedLo = atLo >= 0.05 * n && Math.sqrt(loR2 / atLo) > floor;
+	const clippedHi = atHi >= 0.05 * n && Math.sqrt(hiR2 / atHi) > floor;
+	if (clippedLo || clippedHi) {
+		const high = clippedHi && (!clippedLo || atHi >= atLo);
 		warnings.push(
-			`The ${name} sits at its ${atHi >= atLo ? 'maximum' : 'minimum'} for ${pct(Math.max(atLo, atHi) / n)} of the samples: the capture looks clipped. Widen the scope's vertical range.`
+			`The ${name} sits at its ${high ? 'maximum' : 'minimum'} for ${pct((high ? atHi : atLo) / n)} of the samples: the capture looks clipped. Widen the scope's vertical range.`
 		);
 	}
 }
