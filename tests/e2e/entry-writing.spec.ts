@@ -179,3 +179,70 @@ test('two tabs editing one draft: the later save shows both versions and the wri
 	expect(problems.filter((p) => !p.includes('status of 409 (Conflict)'))).toEqual([]);
 	await other.close();
 });
+
+test('sent back twice: the writer sees the latest comment and both send-backs in the review history', async ({ page, browser }) => {
+	test.setTimeout(90_000);
+	const title = `Twice returned ${Date.now().toString(36)}`;
+	const problems = watch(page);
+	await signIn(page, CONTRIBUTOR, { redirectTo: '/o/fernhollow/entries/new' });
+	await page.getByLabel('Title').fill(title);
+	await page.getByLabel('Component kind').selectOption('zener');
+	await page.getByLabel('Symptom, in one line').fill('Second knee at 3 V instead of 5.1 V on D9');
+	await expect(page).toHaveURL(/\/edit$/, { timeout: 15_000 });
+	await expect(page.getByTestId('save-status')).toHaveText(/Saved/);
+	const editUrl = page.url();
+	await page.getByRole('button', { name: 'Submit for review' }).click();
+	await expect(page.getByTestId('submitted-notice')).toBeVisible();
+
+	const authorContext = await browser.newContext();
+	const author = await authorContext.newPage();
+	const authorProblems = watch(author);
+	await signIn(author, AUTHOR, { redirectTo: '/o/fernhollow/review' });
+	const comments = ['Add the known-good curve of a healthy D9.', 'Say which probe was on the anode,\nand the test conditions.'];
+	for (const [k, comment] of comments.entries()) {
+		if (k > 0) {
+			// The writer changes what was asked and submits again from the editor.
+			await page.goto(editUrl);
+			await expect(page.getByTestId('review-comment')).toContainText(comments[k - 1]);
+			await page.getByLabel('Fix').fill(`Fix, take ${k + 1}`);
+			await page.getByRole('button', { name: 'Submit for review' }).click();
+			await expect(page.getByTestId('submitted-notice')).toBeVisible();
+			await author.goto('/o/fernhollow/review');
+		}
+		const item = author.getByTestId('review-item').filter({ hasText: title });
+		await item.getByLabel('What should change before it is published?').fill(comment);
+		await item.getByRole('button', { name: `Send “${title}” back with this comment` }).click();
+		await expect(author.getByTestId('review-item').filter({ hasText: title })).toHaveCount(0);
+	}
+
+	// The editor still leads with the latest comment, and the whole history is one press away.
+	await page.goto(editUrl);
+	await expect(page.getByTestId('review-comment')).toContainText('Say which probe was on the anode');
+	await expect(page.getByTestId('review-comment')).not.toContainText('known-good curve of a healthy D9');
+	const expander = page.getByTestId('editor-review-history');
+	await expander.getByText('Full review history (4 steps)').click();
+	await expect(expander.getByTestId('review-event-comment')).toHaveText(comments);
+
+	// The entry page lists every step, oldest first, each with its person and time.
+	await expander.getByRole('link', { name: 'Open it on the entry page' }).click();
+	await expect(page).toHaveURL(/\/entries\/[0-9a-f-]{36}#review-history$/);
+	const history = page.getByRole('region', { name: 'Review history' });
+	const steps = history.getByTestId('review-event');
+	await expect(steps).toHaveCount(4);
+	await expect(steps.nth(0)).toContainText('Pim');
+	await expect(steps.nth(1)).toContainText('sent it back');
+	await expect(steps.nth(1)).toContainText('Teodor');
+	await expect(steps.nth(3)).toContainText('sent it back');
+	await expect(history.getByTestId('review-event-comment')).toHaveText(comments);
+	await expect(history.locator('time')).toHaveCount(4);
+	await expect(history.locator('time').first()).toHaveAttribute('datetime', /^\d{4}-\d\d-\d\dT/);
+
+	// It fits a phone screen.
+	await page.setViewportSize({ width: 390, height: 844 });
+	expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+	await history.screenshot({ path: 'test-output/screenshots/review-history-phone.png' });
+
+	expect(problems).toEqual([]);
+	expect(authorProblems).toEqual([]);
+	await authorContext.close();
+});

@@ -125,6 +125,18 @@ export interface EntryHelped {
   userId: string;
 }
 
+export interface EntryReviewEvent {
+  actorId: string | null;
+  comment: string | null;
+  createdAt: Generated<Timestamp>;
+  entryId: string;
+  fromStatus: EntryStatus;
+  id: Generated<Int8>;
+  orgId: string;
+  toStatus: EntryStatus;
+  transition: string;
+}
+
 export interface EntryRevision {
   entryId: string;
   id: Generated<string>;
@@ -255,6 +267,7 @@ export interface DB {
   auditLog: AuditLog;
   entry: Entry;
   entryHelped: EntryHelped;
+  entryReviewEvent: EntryReviewEvent;
   entryRevision: EntryRevision;
   invitation: Invitation;
   matchPreference: MatchPreference;

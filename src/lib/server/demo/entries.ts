@@ -5,6 +5,7 @@ import type { DeviceModel, TestConditions } from '../../signature/types';
 import type { Database } from '../db/connect';
 import { insertEntry, insertRevision, setEntryStatus, snapshotOf } from '../entries/queries';
 import { recordEntryChange } from '../entries/changes';
+import { insertReviewEvent, type NewReviewEvent } from '../entries/review-history';
 import { insertTrace, processCapture, processSimulation } from '../traces/service';
 
 /**
@@ -278,9 +279,29 @@ export async function seedDemoEntries(trx: Transaction<Database>, orgId: string,
 				reviewComment: demo.reviewComment ?? null
 			});
 		}
+		for (const event of demoReviewSteps(status, demo.reviewComment, when, writerId, users.author)) {
+			await insertReviewEvent(trx, orgId, { entryId: id, ...event });
+		}
 		await recordEntryChange(trx, orgId, id, 'upsert');
 	}
 	return ENTRIES.length;
+}
+
+/** The status changes that led a demo entry to where it is, oldest first, so its review history tells the story. */
+function demoReviewSteps(status: EntryStatus, comment: string | undefined, when: Date, writerId: string, authorId: string): Omit<NewReviewEvent, 'entryId'>[] {
+	const hour = (h: number) => new Date(when.getTime() + h * 3_600_000);
+	const ownWork = writerId === authorId;
+	const submit = { actorId: writerId, transition: 'submit', fromStatus: 'draft', toStatus: 'in_review', comment: null, at: when } as const;
+	if (status === 'in_review') return [submit];
+	if (status === 'draft') {
+		return comment ? [submit, { actorId: authorId, transition: 'return', fromStatus: 'in_review', toStatus: 'draft', comment, at: hour(2) }] : [];
+	}
+	const publish = ownWork
+		? ({ actorId: authorId, transition: 'publish', fromStatus: 'draft', toStatus: 'published', comment: null, at: when } as const)
+		: ({ actorId: authorId, transition: 'publish', fromStatus: 'in_review', toStatus: 'published', comment: null, at: hour(3) } as const);
+	const steps: Omit<NewReviewEvent, 'entryId'>[] = ownWork ? [publish] : [submit, publish];
+	if (status === 'archived') steps.push({ actorId: authorId, transition: 'archive', fromStatus: 'published', toStatus: 'archived', comment: null, at: hour(24) });
+	return steps;
 }
 
 function bodyFor(demo: DemoEntry): string {

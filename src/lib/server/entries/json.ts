@@ -1,5 +1,6 @@
 import type { StoredTrace } from '../traces/service';
 import type { Entry, Revision } from './queries';
+import type { ReviewEvent } from './review-history';
 
 /** Entries and traces as the JSON API shows them: ISO dates, SI units, no internal fields. */
 export function entryJson(e: Entry) {
@@ -52,4 +53,17 @@ export function traceJson(t: StoredTrace) {
 
 export function revisionJson(r: Revision) {
 	return { version: r.version, savedBy: r.savedBy ? { id: r.savedBy, name: r.savedByName } : null, savedAt: r.savedAt.toISOString(), note: r.note, fields: r.snapshot };
+}
+
+/** One step of the review history: who changed the status, when, from what to what, and why. */
+export function reviewEventJson(e: ReviewEvent) {
+	return {
+		id: e.id,
+		action: e.transition,
+		from: e.fromStatus,
+		to: e.toStatus,
+		by: e.actorId ? { id: e.actorId, name: e.actorName } : null,
+		comment: e.comment,
+		at: e.at.toISOString()
+	};
 }

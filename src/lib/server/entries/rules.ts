@@ -23,6 +23,16 @@ export function readerFor(member: { userId: string; role: Role }): Reader {
 	};
 }
 
+/**
+ * Whether this member may read the entry's review conversation (comments and status changes):
+ * authors and admins for every entry, a contributor for the entries they wrote. Viewers never do,
+ * and nobody else sees the comments on someone else's work.
+ */
+export function maySeeReview(member: { userId: string; role: Role }, entry: { authorId: string | null }): boolean {
+	if (can(member.role, 'entry:editAny')) return true;
+	return can(member.role, 'entry:draft') && entry.authorId !== null && entry.authorId === member.userId;
+}
+
 /** Whether this member may change the entry's fields now. */
 export function mayEdit(member: { userId: string; role: Role }, entry: { authorId: string | null; status: EntryStatus }): boolean {
 	if (can(member.role, 'entry:editAny')) return true;

@@ -16,6 +16,7 @@ import {
 	softDeleteEntry,
 	updateEntryFields
 } from './queries';
+import { insertReviewEvent } from './review-history';
 import { checkTransition, mayEdit, readerFor, type TransitionCheck } from './rules';
 
 /**
@@ -94,6 +95,8 @@ export async function transitionEntry(
 			...(transition === 'publish' ? { publishedAt: locked.publishedAt ?? now, reviewerId: member.userId, reviewComment: null } : {}),
 			...(transition === 'return' ? { reviewerId: member.userId, reviewComment: comment.trim() } : {})
 		});
+		// The history row commits with the change or not at all, so the conversation never misses a step.
+		await insertReviewEvent(trx, member.orgId, { entryId: id, actorId: member.userId, transition, fromStatus: locked.status, toStatus: check.to, comment, at: now });
 		await recordEntryChange(trx, member.orgId, id, 'upsert');
 		const entry = await findEntry(trx, member.orgId, id, reader);
 		return entry ? { kind: 'done', entry } : { kind: 'not_found' };

@@ -3,10 +3,11 @@ import { ENTRY_TRANSITIONS, entryTransition, type EntryTransition } from '$lib/s
 import { requireMember } from '$lib/server/auth/guard';
 import { can } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
-import { entryJson, traceJson } from '$lib/server/entries/json';
+import { entryJson, reviewEventJson, traceJson } from '$lib/server/entries/json';
 import { helpedState, recordEntryView } from '$lib/server/entries/helped';
 import { findEntry } from '$lib/server/entries/queries';
-import { checkTransition, mayEdit, readerFor, TRANSITION_MESSAGES } from '$lib/server/entries/rules';
+import { listReviewEvents } from '$lib/server/entries/review-history';
+import { checkTransition, mayEdit, maySeeReview, readerFor, TRANSITION_MESSAGES } from '$lib/server/entries/rules';
 import { changeEntryStatus } from '$lib/server/entries/review';
 import { deleteEntry } from '$lib/server/entries/service';
 import { renderMarkdown } from '$lib/server/markdown';
@@ -30,6 +31,8 @@ export const load: PageServerLoad = async ({ params, url, request }) => {
 	);
 	// Markdown is rendered and sanitised here, on every output; stored text is never trusted as HTML.
 	const md = (text: string) => (text.trim() ? renderMarkdown(text, { attachmentPrefix: photoUrlPrefix(member.orgSlug) }) : '');
+	// null: this reader may not see the review conversation (viewers; contributors on others' entries).
+	const reviewHistory = maySeeReview(member, entry) ? (await listReviewEvents(db, member.orgId, entry.id)).map(reviewEventJson) : null;
 	const transitions = ENTRY_TRANSITIONS.filter((t) => checkTransition(member, entry, t, 'comment').ok);
 	return {
 		entry: entryJson(entry),
@@ -39,6 +42,7 @@ export const load: PageServerLoad = async ({ params, url, request }) => {
 			return { ...traceJson(t), curve: c ? { v: c.v, i: c.i } : null };
 		}),
 		helped,
+		reviewHistory,
 		mayEdit: mayEdit(member, entry),
 		mayDelete: can(member.role, 'entry:delete'),
 		transitions,

@@ -5,10 +5,12 @@ import { can } from '$lib/server/auth/permissions';
 import { findUserById } from '$lib/server/auth/users';
 import { db } from '$lib/server/db';
 import { type EditorFailure, parseEntryFields, storedVersionOf } from '$lib/server/entries/editor';
+import { reviewEventJson } from '$lib/server/entries/json';
 import { findEntry } from '$lib/server/entries/queries';
 import { renderEntryParts } from '$lib/server/entries/render';
 import { changeEntryStatus } from '$lib/server/entries/review';
-import { mayEdit, readerFor, TRANSITION_MESSAGES } from '$lib/server/entries/rules';
+import { listReviewEvents } from '$lib/server/entries/review-history';
+import { mayEdit, maySeeReview, readerFor, TRANSITION_MESSAGES } from '$lib/server/entries/rules';
 import { updateEntry } from '$lib/server/entries/service';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -35,6 +37,7 @@ export const load: PageServerLoad = async ({ params }) => {
 		},
 		editable,
 		review: entry.reviewComment ? { comment: entry.reviewComment, by: reviewer?.name ?? reviewer?.email ?? 'An author' } : null,
+		reviewHistory: maySeeReview(member, entry) ? (await listReviewEvents(db, member.orgId, entry.id)).map(reviewEventJson) : [],
 		preview: renderEntryParts(entry, member.orgSlug),
 		maySubmit: editable && entry.status === 'draft' && (entry.authorId === member.userId || can(member.role, 'entry:editAny')),
 		isAuthor: can(member.role, 'entry:review')

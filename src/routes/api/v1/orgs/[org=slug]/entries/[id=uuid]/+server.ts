@@ -3,9 +3,10 @@ import { entryUpdate } from '$lib/schemas/entries';
 import { apiError, readJson, toApiIssues } from '$lib/server/api/errors';
 import { requireMember } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
-import { entryJson, traceJson } from '$lib/server/entries/json';
+import { entryJson, reviewEventJson, traceJson } from '$lib/server/entries/json';
 import { findEntry } from '$lib/server/entries/queries';
-import { readerFor } from '$lib/server/entries/rules';
+import { listReviewEvents } from '$lib/server/entries/review-history';
+import { maySeeReview, readerFor } from '$lib/server/entries/rules';
 import { deleteEntry, updateEntry } from '$lib/server/entries/service';
 import { listEntryTraces } from '$lib/server/traces/service';
 import type { RequestHandler } from './$types';
@@ -14,13 +15,17 @@ function notFound(): never {
 	error(404, { message: 'Not found', error: { code: 'not_found', message: 'No such entry.' } });
 }
 
-/** One entry with its traces' analyses (curves: GET …/traces/{id}?view=canonical). */
+/**
+ * One entry with its traces' analyses (curves: GET …/traces/{id}?view=canonical) and, for those who
+ * may read the review (authors, admins, the writer), its review history oldest first.
+ */
 export const GET: RequestHandler = async ({ params }) => {
 	const member = await requireMember(params.org, 'entry:read');
 	const entry = await findEntry(db, member.orgId, params.id, readerFor(member));
 	if (!entry) notFound();
 	const traces = await listEntryTraces(db, member.orgId, entry.id);
-	return json({ entry: entryJson(entry), traces: traces.map(traceJson) });
+	const history = maySeeReview(member, entry) ? { reviewHistory: (await listReviewEvents(db, member.orgId, entry.id)).map(reviewEventJson) } : {};
+	return json({ entry: entryJson(entry), traces: traces.map(traceJson), ...history });
 };
 
 /** Changes fields; `version` must be the version the change is based on (409 when it is stale). */
