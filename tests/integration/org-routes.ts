@@ -250,6 +250,15 @@ export const ORG_ROUTES: OrgRoute[] = [
 		writes: true,
 		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/invitations`, body: { json: { email: fx.freshEmail, role: 'viewer' } } })
 	},
+	{
+		route: 'api/v1/orgs/[org=slug]/invitations/[id=uuid]/resend',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'invitation:manage',
+		writes: true,
+		status: 200,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/invitations/${fx.invitationId}/resend`, body: { json: {} } })
+	},
 	// Entries and traces. Changing someone else's published entry takes entry:editAny whatever the
 	// endpoint's own guard lets through, so that is what the matrix checks for those calls.
 	{ route: 'api/v1/orgs/[org=slug]/entries', kind: 'endpoint', method: 'GET', action: 'entry:read', request: (s) => ({ path: `/api/v1/orgs/${s}/entries?status=published&limit=5` }) },

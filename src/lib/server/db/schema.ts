@@ -151,6 +151,14 @@ export interface Invitation {
   tokenHash: string;
 }
 
+export interface InvitationMail {
+  id: Generated<Int8>;
+  invitationId: string;
+  kind: string;
+  orgId: string;
+  sentAt: Generated<Timestamp>;
+}
+
 export interface MatchPreference {
   frequencyHz: number;
   orgId: string;
@@ -257,6 +265,7 @@ export interface DB {
   entryHelped: EntryHelped;
   entryRevision: EntryRevision;
   invitation: Invitation;
+  invitationMail: InvitationMail;
   matchPreference: MatchPreference;
   membership: Membership;
   organisation: Organisation;
