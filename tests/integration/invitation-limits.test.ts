@@ -2,6 +2,7 @@ import { afterAll, beforeEach, describe, expect, it } from 'vitest';
 import { ensureUser } from '../../src/lib/server/auth/users';
 import { findInvitationByToken } from '../../src/lib/server/orgs/invitations';
 import {
+	describeLimits,
 	describeWait,
 	INVITATION_MAIL_LIMITS,
 	type InvitationMailLimits,
@@ -144,6 +145,15 @@ describe('invitation mail limits (stored in Postgres)', () => {
 		await invited(a, 'old@example.com', t0);
 		await invited(a, 'new@example.com', at(DAY + MINUTE));
 		expect(await mailRows()).toBe(1);
+	});
+
+	it('states the limits on the invitations page in one sentence', () => {
+		expect(describeLimits(INVITATION_MAIL_LIMITS)).toBe(
+			'An invitation can be resent at most once every 60 seconds and 5 times a day; the organisation sends up to 50 invitation e-mails an hour.'
+		);
+		expect(describeLimits({ resendIntervalSeconds: 0, resendsPerDay: 1, mailsPerOrgPerHour: 3 })).toBe(
+			'An invitation can be resent 1 time a day; the organisation sends up to 3 invitation e-mails an hour.'
+		);
 	});
 
 	it('words a wait in seconds, then minutes, then hours, always rounding up', () => {

@@ -142,6 +142,8 @@ describe('invitation mail limits on the page and the API', () => {
 		const org = await freshOrg();
 		const invited = await call(app, who.admin, 'POST', `/o/${org.slug}/invitations?/invite`, { email: 'wren@settings.example', role: 'viewer' });
 		expect(invited.status).toBe(200);
+		// The page states the limits in force (this app runs with 3 mails per organisation an hour).
+		expect(invited.text).toContain('the organisation sends up to 3 invitation e-mails an hour.');
 		const inv = await db.selectFrom('invitation').select(['id', 'tokenHash']).where('orgId', '=', org.id).executeTakeFirstOrThrow();
 
 		const page = await call(app, who.admin, 'POST', `/o/${org.slug}/invitations?/resend`, { id: inv.id });

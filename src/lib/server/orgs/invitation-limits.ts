@@ -60,6 +60,12 @@ export function describeWait(seconds: number): string {
 	return plural(Math.ceil(s / 3600), 'hour');
 }
 
+/** The limits in one sentence, for the invitations page. Pure. */
+export function describeLimits(limits: InvitationMailLimits): string {
+	const interval = limits.resendIntervalSeconds > 0 ? `at most once every ${describeWait(limits.resendIntervalSeconds)} and ` : '';
+	return `An invitation can be resent ${interval}${limits.resendsPerDay} time${limits.resendsPerDay === 1 ? '' : 's'} a day; the organisation sends up to ${limits.mailsPerOrgPerHour} invitation e-mails an hour.`;
+}
+
 /** The sentence shown on the page and returned by the API for a refused mail. Pure. */
 export function limitMessage(scope: 'interval' | 'daily' | 'organisation', kind: InvitationMailKind, retryAfterSeconds: number, limits: InvitationMailLimits): string {
 	const wait = describeWait(retryAfterSeconds);

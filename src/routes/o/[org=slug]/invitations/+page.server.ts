@@ -5,7 +5,7 @@ import { ROLES, ROLE_LABELS } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
 import { config } from '$lib/server/env';
 import { sendMail } from '$lib/server/mail/send';
-import { invitationMailLimits, inviteWithinLimits, resendWithinLimits } from '$lib/server/orgs/invitation-limits';
+import { describeLimits, invitationMailLimits, inviteWithinLimits, resendWithinLimits } from '$lib/server/orgs/invitation-limits';
 import { invitationMail } from '$lib/server/orgs/invitation-mail';
 import { listPendingInvitations, revokeInvitation } from '$lib/server/orgs/invitations';
 import { invitationCreate, invitationRef } from '$lib/schemas/orgs';
@@ -17,7 +17,8 @@ export const load: PageServerLoad = async ({ params }) => {
 	const member = await requireMember(params.org, 'invitation:manage');
 	return {
 		pending: await listPendingInvitations(db, member.orgId),
-		roles: ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }))
+		roles: ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] })),
+		limits: describeLimits(invitationMailLimits(config()))
 	};
 };
 
