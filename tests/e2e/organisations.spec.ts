@@ -43,7 +43,11 @@ test('create an organisation, invite a viewer who accepts and meets the limits, 
 	await page.getByLabel('Role').selectOption('viewer');
 	await page.getByRole('button', { name: 'Send invitation' }).click();
 	await expect(page.getByText(`Invitation sent to ${invitee}.`)).toBeVisible();
-	await expect(page.getByTestId('pending-invitation').filter({ hasText: invitee })).toBeVisible();
+	const pending = page.getByTestId('pending-invitation').filter({ hasText: invitee });
+	await expect(pending).toBeVisible();
+	// Resending at once is refused beside that invitation, with the wait (one mail a minute at most).
+	await pending.getByRole('button', { name: `Resend to ${invitee}` }).click();
+	await expect(pending.getByTestId('resend-refused')).toHaveText(/^You can resend this invitation in \d+ seconds?\.$/);
 	const inviteLink = await latestSignInLink(page, invitee);
 	expect(inviteLink).toContain('/invite/cli_');
 
@@ -63,8 +67,10 @@ test('create an organisation, invite a viewer who accepts and meets the limits, 
 	await expect(nav.getByRole('link', { name: 'Overview' })).toBeVisible();
 	await expect(nav.getByRole('link', { name: 'Members' })).toHaveCount(0);
 	await expect(nav.getByRole('link', { name: 'Invitations' })).toHaveCount(0);
+	await expect(nav.getByRole('link', { name: 'Settings' })).toHaveCount(0);
 	const refused = await them.goto(`/o/${slug}/members`);
 	expect(refused?.status()).toBe(403);
+	expect((await them.goto(`/o/${slug}/settings`))?.status()).toBe(403);
 	// The link works once.
 	await them.goto(inviteLink);
 	await expect(them.getByRole('heading', { name: 'This invitation has already been used' })).toBeVisible();
@@ -96,13 +102,65 @@ test('create an organisation, invite a viewer who accepts and meets the limits, 
 	const gone = await them.goto(`/o/${slug}`);
 	expect(gone?.status()).toBe(404);
 
+	// The admin renames the organisation under Settings; a blank name is refused beside the field,
+	// and the address stays the same.
+	await page.goto(`/o/${slug}`);
+	await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Settings' }).click();
+	await expect(page).toHaveURL(new RegExp(`/o/${slug}/settings$`));
+	await expect(page.getByTestId('org-address')).toHaveText(new RegExp(`/o/${slug}$`));
+	const nameField = page.getByLabel('Name', { exact: true });
+	await expect(nameField).toHaveValue(name);
+	await nameField.fill('   ');
+	await page.getByRole('button', { name: 'Save name' }).click();
+	await expect(page.getByText('Enter a name.')).toBeVisible();
+	await expect(nameField).toHaveAttribute('aria-invalid', 'true');
+	const renamed = `${name} east bench`;
+	await nameField.fill(renamed);
+	await page.getByRole('button', { name: 'Save name' }).click();
+	await expect(page.getByTestId('settings-notice')).toHaveText(`The organisation is now called ${renamed}.`);
+	await expect(nameField).toHaveValue(renamed);
+	await expect(page).toHaveTitle(`Settings — ${renamed} — Curvelore`);
+	await page.setViewportSize({ width: 390, height: 800 });
+	await page.screenshot({ path: 'test-output/screenshots/org-settings-narrow.png', fullPage: true });
+	await page.setViewportSize({ width: 1280, height: 720 });
+	await page.goto(`/o/${slug}`);
+	await expect(page.getByRole('heading', { level: 1 })).toHaveText(renamed);
+	await page.getByTestId('org-switcher').locator('summary').click();
+	await expect(page.getByTestId('org-switcher').getByRole('link', { name: renamed })).toBeVisible();
+
 	// Everything above is in the audit log.
 	await page.goto(`/o/${slug}/audit`);
-	for (const action of ['org.created', 'invitation.created', 'member.joined', 'member.role_changed', 'member.removed']) {
+	for (const action of ['org.created', 'invitation.created', 'member.joined', 'member.role_changed', 'member.removed', 'org.renamed']) {
 		await expect(page.locator(`[data-action="${action}"]`).first()).toBeVisible();
 	}
 	await page.screenshot({ path: 'test-output/screenshots/org-audit.png', fullPage: true });
 	await theirs.close();
+});
+
+test('an admin renames an organisation without JavaScript, a blank name refused beside the field', async ({ browser }) => {
+	const context = await browser.newContext({ javaScriptEnabled: false });
+	const page = await context.newPage();
+	const suffix = Date.now().toString(36);
+	const slug = `plain-form-${suffix}`;
+	await signIn(page, ADMIN);
+	await page.goto('/orgs/new');
+	await page.getByLabel('Name').fill(`Plain Form ${suffix}`);
+	await page.getByLabel('Address').fill(slug);
+	await page.getByRole('button', { name: 'Create organisation' }).click();
+	await expect(page).toHaveURL(new RegExp(`/o/${slug}$`));
+
+	await page.getByRole('link', { name: 'Organisation settings' }).click();
+	const nameField = page.getByLabel('Name', { exact: true });
+	await nameField.fill('');
+	await page.getByRole('button', { name: 'Save name' }).click();
+	await expect(page.getByText('Enter a name.')).toBeVisible();
+	await expect(nameField).toHaveAttribute('aria-invalid', 'true');
+	await nameField.fill(`Plain Form ${suffix} renamed`);
+	await page.getByRole('button', { name: 'Save name' }).click();
+	await expect(page.getByTestId('settings-notice')).toHaveText(`The organisation is now called Plain Form ${suffix} renamed.`);
+	await expect(page).toHaveTitle(`Settings — Plain Form ${suffix} renamed — Curvelore`);
+	await expect(page.getByTestId('org-address')).toHaveText(new RegExp(`/o/${slug}$`));
+	await context.close();
 });
 
 test('someone else’s organisation is a plain 404, like one that does not exist', async ({ page }) => {

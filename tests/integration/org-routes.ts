@@ -168,6 +168,17 @@ export const ORG_ROUTES: OrgRoute[] = [
 		request: (s) => ({ path: `/o/${s}/match?/draft`, body: matchForm() })
 	},
 	{ route: 'o/[org=slug]/audit', kind: 'page', method: 'GET', action: 'audit:read', request: (s) => ({ path: `/o/${s}/audit` }) },
+	{ route: 'o/[org=slug]/settings', kind: 'page', method: 'GET', action: 'org:settings', request: (s) => ({ path: `/o/${s}/settings` }) },
+	{
+		// Keeps "Bench Alpha" in the name: other route tests look for it in invitation mails.
+		route: 'o/[org=slug]/settings',
+		kind: 'action',
+		name: 'rename',
+		method: 'POST',
+		action: 'org:settings',
+		writes: true,
+		request: (s) => ({ path: `/o/${s}/settings?/rename`, body: { name: 'Bench Alpha Workshop' } })
+	},
 	{ route: 'o/[org=slug]/entries', kind: 'page', method: 'GET', action: 'entry:read', request: (s) => ({ path: `/o/${s}/entries?kind=diode` }) },
 	{
 		// The fixture entry is not deleted, so an allowed caller gets the "can no longer be restored" answer.
@@ -238,6 +249,15 @@ export const ORG_ROUTES: OrgRoute[] = [
 		action: 'invitation:manage',
 		writes: true,
 		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/invitations`, body: { json: { email: fx.freshEmail, role: 'viewer' } } })
+	},
+	{
+		route: 'api/v1/orgs/[org=slug]/invitations/[id=uuid]/resend',
+		kind: 'endpoint',
+		method: 'POST',
+		action: 'invitation:manage',
+		writes: true,
+		status: 200,
+		request: (s, fx) => ({ path: `/api/v1/orgs/${s}/invitations/${fx.invitationId}/resend`, body: { json: {} } })
 	},
 	// Entries and traces. Changing someone else's published entry takes entry:editAny whatever the
 	// endpoint's own guard lets through, so that is what the matrix checks for those calls.

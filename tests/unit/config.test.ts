@@ -58,3 +58,18 @@ describe('sign-in link limits', () => {
 		expect(() => loadConfig({ ...base, SIGN_IN_LINKS_PER_CLIENT: '2.5' })).toThrowError(/SIGN_IN_LINKS_PER_CLIENT/);
 	});
 });
+
+describe('invitation mail limits', () => {
+	it('default to a minute between mails of one invitation, 5 resends a day and 50 mails per organisation an hour', () => {
+		expect(loadConfig(base)).toMatchObject({ INVITATION_RESEND_INTERVAL_SECONDS: 60, INVITATION_RESENDS_PER_DAY: 5, INVITATION_MAILS_PER_ORG_PER_HOUR: 50 });
+		expect(
+			loadConfig({ ...base, INVITATION_RESEND_INTERVAL_SECONDS: '0', INVITATION_RESENDS_PER_DAY: '10', INVITATION_MAILS_PER_ORG_PER_HOUR: '200' })
+		).toMatchObject({ INVITATION_RESEND_INTERVAL_SECONDS: 0, INVITATION_RESENDS_PER_DAY: 10, INVITATION_MAILS_PER_ORG_PER_HOUR: 200 });
+	});
+
+	it('refuses negative, zero counts and fractions with the variable named', () => {
+		expect(() => loadConfig({ ...base, INVITATION_RESEND_INTERVAL_SECONDS: '-1' })).toThrowError(/INVITATION_RESEND_INTERVAL_SECONDS/);
+		expect(() => loadConfig({ ...base, INVITATION_RESENDS_PER_DAY: '0' })).toThrowError(/INVITATION_RESENDS_PER_DAY/);
+		expect(() => loadConfig({ ...base, INVITATION_MAILS_PER_ORG_PER_HOUR: '1.5' })).toThrowError(/INVITATION_MAILS_PER_ORG_PER_HOUR/);
+	});
+});

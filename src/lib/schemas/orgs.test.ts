@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { apiTokenCreate, invitationCreate, orgCreate, RESERVED_SLUGS, SLUG_PATTERN, suggestSlug } from './orgs';
+import { apiTokenCreate, invitationCreate, orgCreate, orgRename, RESERVED_SLUGS, SLUG_PATTERN, suggestSlug } from './orgs';
 
 /** Every message per field, joined, as a form would list them beside the field. */
 function fieldErrors(r: { success: boolean; error?: { issues: { path: PropertyKey[]; message: string }[] } }) {
@@ -38,6 +38,20 @@ describe('orgCreate', () => {
 
 	it('keeps every reserved word within the slug shape, so the reserved check is what refuses it', () => {
 		for (const word of RESERVED_SLUGS) expect(SLUG_PATTERN.test(word)).toBe(true);
+	});
+});
+
+describe('orgRename', () => {
+	it('trims the name and applies the same rules as creating an organisation', () => {
+		expect(orgRename.safeParse({ name: '  Bench Two Repairs, east wing ' })).toMatchObject({ success: true, data: { name: 'Bench Two Repairs, east wing' } });
+		expect(fieldErrors(orgRename.safeParse({ name: ' \t ' })).name).toContain('Enter a name');
+		expect(fieldErrors(orgRename.safeParse({})).name).toContain('Enter a name');
+		expect(orgRename.safeParse({ name: 'x'.repeat(120) }).success).toBe(true);
+		expect(fieldErrors(orgRename.safeParse({ name: 'x'.repeat(121) })).name).toContain('120');
+	});
+
+	it('takes no address: a slug sent along is ignored, never applied', () => {
+		expect(orgRename.safeParse({ name: 'Bench', slug: 'other' })).toEqual({ success: true, data: { name: 'Bench' } });
 	});
 });
 

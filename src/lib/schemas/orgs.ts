@@ -49,8 +49,15 @@ export const email = z
 	.max(254, 'That e-mail address is too long.')
 	.pipe(z.email('Enter a valid e-mail address, like name@example.com.'));
 
-export const orgCreate = z.object({ name: trimmed(120, 'a name'), slug });
+/** An organisation's display name; the database's organisation_name_length check backs it. */
+export const orgName = trimmed(120, 'a name');
+
+export const orgCreate = z.object({ name: orgName, slug });
 export type OrgCreate = z.infer<typeof orgCreate>;
+
+/** The settings page's rename: the name only, since the address (slug) never changes. */
+export const orgRename = z.object({ name: orgName });
+export type OrgRename = z.infer<typeof orgRename>;
 
 export const invitationCreate = z.object({ email, role });
 export type InvitationCreate = z.infer<typeof invitationCreate>;

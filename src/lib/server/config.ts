@@ -46,6 +46,20 @@ const configSchema = z.object({
 		emptyToUndefined,
 		z.coerce.number().int('SIGN_IN_LINKS_PER_CLIENT must be a whole number.').min(1).max(10000).optional().default(20)
 	),
+	// Invitation e-mails (see orgs/invitation-limits.ts): the wait between two mails of one
+	// invitation, its resends per 24 hours, and the mails one organisation sends per hour.
+	INVITATION_RESEND_INTERVAL_SECONDS: z.preprocess(
+		emptyToUndefined,
+		z.coerce.number().int('INVITATION_RESEND_INTERVAL_SECONDS must be a whole number.').min(0).max(86400).optional().default(60)
+	),
+	INVITATION_RESENDS_PER_DAY: z.preprocess(
+		emptyToUndefined,
+		z.coerce.number().int('INVITATION_RESENDS_PER_DAY must be a whole number.').min(1).max(1000).optional().default(5)
+	),
+	INVITATION_MAILS_PER_ORG_PER_HOUR: z.preprocess(
+		emptyToUndefined,
+		z.coerce.number().int('INVITATION_MAILS_PER_ORG_PER_HOUR must be a whole number.').min(1).max(100000).optional().default(50)
+	),
 	DATABASE_POOL_MAX: z.preprocess(
 		emptyToUndefined,
 		z.coerce.number().int('DATABASE_POOL_MAX must be a whole number.').min(1).max(200).optional().default(10)

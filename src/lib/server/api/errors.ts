@@ -17,7 +17,8 @@ export type ApiErrorCode =
 	| 'invalid_transition'
 	| 'search_unavailable'
 	| 'invalid_photo'
-	| 'invalid_bundle';
+	| 'invalid_bundle'
+	| 'rate_limited';
 
 export interface ApiIssue {
 	path: string;
@@ -26,6 +27,13 @@ export interface ApiIssue {
 
 export function apiError(status: number, code: ApiErrorCode, message: string, issues?: ApiIssue[]): Response {
 	return json({ error: issues ? { code, message, issues } : { code, message } }, { status, headers: { 'cache-control': 'no-store' } });
+}
+
+/** 429 `rate_limited` with the wait in `Retry-After` (whole seconds) and in the message. */
+export function rateLimited(message: string, retryAfterSeconds: number): Response {
+	const res = apiError(429, 'rate_limited', message);
+	res.headers.set('retry-after', String(Math.max(1, Math.ceil(retryAfterSeconds))));
+	return res;
 }
 
 /** zod issues as the API reports them: a dotted path and the message. */

@@ -51,4 +51,4 @@ export async function requireUser(): Promise<SignedInUser> {
 }
 
 // Organisation membership and API tokens live beside this file; every guard is imported from here.
-export { requireMember, type MemberContext } from './member';
+export { forgetMember, requireMember, type MemberContext } from './member';

@@ -60,6 +60,14 @@ export async function requireMember(orgSlug: string, action: Action): Promise<Me
 	return member;
 }
 
+/**
+ * Forgets the membership the guard loaded for `orgSlug` in this request, so the loads that run
+ * after a form action that changed the organisation (its name) read it afresh.
+ */
+export function forgetMember(orgSlug: string): void {
+	getRequestEvent().locals.members?.delete(orgSlug);
+}
+
 async function loadMember(orgSlug: string, userId: string, token: TokenPrincipal | undefined): Promise<MemberContext | null> {
 	const org = await findOrgBySlug(db, orgSlug);
 	if (!org) return null;

@@ -163,6 +163,14 @@ export interface Invitation {
   tokenHash: string;
 }
 
+export interface InvitationMail {
+  id: Generated<Int8>;
+  invitationId: string;
+  kind: string;
+  orgId: string;
+  sentAt: Generated<Timestamp>;
+}
+
 export interface MatchPreference {
   frequencyHz: number;
   orgId: string;
@@ -270,6 +278,7 @@ export interface DB {
   entryReviewEvent: EntryReviewEvent;
   entryRevision: EntryRevision;
   invitation: Invitation;
+  invitationMail: InvitationMail;
   matchPreference: MatchPreference;
   membership: Membership;
   organisation: Organisation;

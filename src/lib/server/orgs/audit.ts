@@ -6,6 +6,7 @@ import { authTables } from '../auth/tables';
 /** Every event the audit log records. Stable strings: they are stored. */
 export type AuditAction =
 	| 'org.created'
+	| 'org.renamed'
 	| 'member.joined'
 	| 'member.role_changed'
 	| 'member.removed'

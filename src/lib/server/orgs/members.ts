@@ -4,7 +4,7 @@ import type { Database } from '../db/connect';
 import { revokeTokensOfMember } from '../auth/api-tokens';
 import type { Role } from '../auth/permissions';
 import { writeAudit } from './audit';
-import { deleteMembership, findMembership, insertMembership, insertOrg, lockAdmins, type Organisation, updateMemberRole } from './queries';
+import { deleteMembership, findMembership, insertMembership, insertOrg, lockAdmins, type Organisation, updateMemberRole, updateOrgName } from './queries';
 
 export const LAST_ADMIN_MESSAGE =
 	'An organisation needs at least one admin. Make another member an admin first.';
@@ -32,6 +32,22 @@ export async function createOrganisation(
 	await insertMembership(trx, { orgId: org.id, userId: input.creatorId, role: 'admin' });
 	await writeAudit(trx, org.id, { actorId: input.creatorId, action: 'org.created', subject: `org:${org.slug}`, details: { name: org.name } });
 	return org;
+}
+
+/**
+ * Renames the organisation (the slug, and so every link, stays) and records it in the audit log.
+ * `changed` is false when the name was already this one: then nothing is written. Undefined when
+ * the organisation does not exist.
+ */
+export async function renameOrganisation(
+	trx: Transaction<Database>,
+	input: { orgId: string; actorId: string; name: string }
+): Promise<{ changed: boolean } | undefined> {
+	const updated = await updateOrgName(trx, input.orgId, input.name);
+	if (!updated) return undefined;
+	if (updated.previous === input.name) return { changed: false };
+	await writeAudit(trx, input.orgId, { actorId: input.actorId, action: 'org.renamed', details: { from: updated.previous, to: input.name } });
+	return { changed: true };
 }
 
 /** Changes a member's role, refusing to demote the organisation's last admin. */

@@ -43,6 +43,17 @@ export async function insertOrg(db: Db, values: { name: string; slug: string }):
 		.executeTakeFirst();
 }
 
+/**
+ * Sets the organisation's name and returns the name it had, or undefined when there is no such
+ * organisation. The old name is read under a row lock, so two renames at once each see the other.
+ */
+export async function updateOrgName(trx: Transaction<Database>, orgId: string, name: string): Promise<{ previous: string } | undefined> {
+	const row = await trx.selectFrom('organisation').select('name').where('id', '=', orgId).forUpdate().executeTakeFirst();
+	if (!row) return undefined;
+	if (row.name !== name) await trx.updateTable('organisation').set({ name }).where('id', '=', orgId).execute();
+	return { previous: row.name };
+}
+
 export async function findMembership(db: Db, orgId: string, userId: string): Promise<Membership | undefined> {
 	return db
 		.selectFrom('membership')

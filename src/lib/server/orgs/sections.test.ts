@@ -24,7 +24,8 @@ describe('orgSections', () => {
 			{ href: '/o/bench/invitations', label: 'Invitations' },
 			{ href: '/o/bench/tokens', label: 'API tokens' },
 			{ href: '/o/bench/audit', label: 'Audit log' },
-			{ href: '/o/bench/transfer', label: 'Export & import' }
+			{ href: '/o/bench/transfer', label: 'Export & import' },
+			{ href: '/o/bench/settings', label: 'Settings' }
 		]);
 	});
 });

@@ -18,7 +18,8 @@ const SECTIONS: { path: string; label: string; action: Action }[] = [
 	{ path: '/invitations', label: 'Invitations', action: 'invitation:manage' },
 	{ path: '/tokens', label: 'API tokens', action: 'orgToken:manage' },
 	{ path: '/audit', label: 'Audit log', action: 'audit:read' },
-	{ path: '/transfer', label: 'Export & import', action: 'org:settings' }
+	{ path: '/transfer', label: 'Export & import', action: 'org:settings' },
+	{ path: '/settings', label: 'Settings', action: 'org:settings' }
 ];
 
 /** The sections of `/o/<slug>` a member with `role` may open; the navigation shows only these. */

@@ -3,9 +3,11 @@ import { z } from 'zod';
 import { requireMember, requireUser } from '$lib/server/auth/guard';
 import { ROLES, ROLE_LABELS } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
+import { config } from '$lib/server/env';
 import { sendMail } from '$lib/server/mail/send';
+import { describeLimits, invitationMailLimits, inviteWithinLimits, resendWithinLimits } from '$lib/server/orgs/invitation-limits';
 import { invitationMail } from '$lib/server/orgs/invitation-mail';
-import { createInvitation, listPendingInvitations, resendInvitation, revokeInvitation } from '$lib/server/orgs/invitations';
+import { listPendingInvitations, revokeInvitation } from '$lib/server/orgs/invitations';
 import { invitationCreate, invitationRef } from '$lib/schemas/orgs';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -15,7 +17,8 @@ export const load: PageServerLoad = async ({ params }) => {
 	const member = await requireMember(params.org, 'invitation:manage');
 	return {
 		pending: await listPendingInvitations(db, member.orgId),
-		roles: ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }))
+		roles: ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] })),
+		limits: describeLimits(invitationMailLimits(config()))
 	};
 };
 
@@ -30,9 +33,11 @@ export const actions: Actions = {
 		const parsed = invitationCreate.safeParse(values);
 		if (!parsed.success) return fail(400, { invite: { values, fieldErrors: z.flattenError(parsed.error).fieldErrors as InviteErrors } });
 		const result = await db.transaction().execute((trx) =>
-			createInvitation(trx, { orgId: member.orgId, email: parsed.data.email, role: parsed.data.role, invitedBy: member.userId })
+			inviteWithinLimits(trx, { orgId: member.orgId, email: parsed.data.email, role: parsed.data.role, invitedBy: member.userId }, invitationMailLimits(config()))
 		);
-		if (!result.ok) return fail(409, { invite: { values, fieldErrors: { email: [result.message] } as InviteErrors } });
+		if (!result.ok) {
+			return fail(result.code === 'rate_limited' ? 429 : 409, { invite: { values, fieldErrors: { email: [result.message] } as InviteErrors } });
+		}
 		const mailed = await sendMail(
 			parsed.data.email,
 			invitationMail({ url: linkFor(url.origin, result.token), orgName: member.orgName, role: parsed.data.role, inviter: user.name ?? user.email, expiresAt: result.expiresAt })
@@ -48,8 +53,13 @@ export const actions: Actions = {
 		const user = await requireUser();
 		const parsed = invitationRef.safeParse({ id: (await request.formData()).get('id') });
 		if (!parsed.success) return fail(400, { notice: 'That invitation no longer exists.' });
-		const sent = await db.transaction().execute((trx) => resendInvitation(trx, { orgId: member.orgId, id: parsed.data.id, actorId: member.userId }));
-		if (!sent) return fail(404, { notice: 'That invitation is no longer pending.' });
+		const sent = await db.transaction().execute((trx) =>
+			resendWithinLimits(trx, { orgId: member.orgId, id: parsed.data.id, actorId: member.userId }, invitationMailLimits(config()))
+		);
+		if (!sent.ok) {
+			// Shown beside the invitation's own Resend button (and, for the not-pending case, on top).
+			return fail(sent.code === 'rate_limited' ? 429 : 404, { notice: sent.message, invitationId: parsed.data.id });
+		}
 		const mailed = await sendMail(
 			sent.email,
 			invitationMail({ url: linkFor(url.origin, sent.token), orgName: member.orgName, role: sent.role, inviter: user.name ?? user.email, expiresAt: sent.expiresAt })
