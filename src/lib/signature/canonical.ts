@@ -648,7 +648,7 @@ function currentLooksInverted(
 
 /** How each sample's reconstructed source departs from the fitted sine, and its white noise. */
 interface SourceFit {
-	residual: Float64Array;
+	residual: Float32Array;
 	noise: number;
 	vs: number;
 }
@@ -664,7 +664,8 @@ function checkSource(
 	vs: number,
 	warnings: string[]
 ): SourceFit {
-	const residual = new Float64Array(e.length);
+	// Single precision is plenty for an RMS over the flat stretch, and halves the memory of a long record.
+	const residual = new Float32Array(e.length);
 	const n = e.length;
 	const { omega, x0, phase, amp, offset } = model;
 	let sumR2 = 0;
