@@ -6,8 +6,11 @@ import { traceJson } from '$lib/server/entries/json';
 import { findEntry } from '$lib/server/entries/queries';
 import { mayEdit, readerFor } from '$lib/server/entries/rules';
 import { deleteTrace, findTrace, insertTrace, listEntryTraces, MAX_TRACE_BYTES } from '$lib/server/traces/service';
+import { attachSimulatedReference, readSimulationForm } from '$lib/server/traces/simulation';
 import { MAX_UPLOAD_BYTES, readCaptureUpload } from '$lib/server/traces/upload';
+import { formDataOf, readBodyWithin } from '$lib/server/api/body';
 import { uuid } from '$lib/schemas/traces';
+import { SIMULATION_FIELDS } from '$lib/traces/simulation';
 import type { Actions, PageServerLoad } from './$types';
 
 /** The fields a failed upload sends back into the form (never the file: browsers cannot refill it). */
@@ -22,11 +25,29 @@ async function editableEntry(member: Awaited<ReturnType<typeof requireMember>>, 
 	return entry;
 }
 
-export const load: PageServerLoad = async ({ params }) => {
+/** The simulation form's fields are few and short; anything this large is not from the form. */
+const MAX_SIMULATION_FORM_BYTES = 16 * 1024;
+
+export const load: PageServerLoad = async ({ params, url }) => {
 	const member = await requireMember(params.org, 'trace:upload');
 	const entry = await editableEntry(member, params.id);
 	const traces = await listEntryTraces(db, member.orgId, entry.id);
-	return { entry: { id: entry.id, title: entry.title }, traces: traces.map(traceJson), maxBytes: MAX_TRACE_BYTES };
+	// Without script, choosing another part reloads the page with the form's fields in the query
+	// (`?kind=capacitor&…`), so that part's fields show with everything typed so far.
+	const simulation: Record<string, string> = {};
+	for (const name of SIMULATION_FIELDS) {
+		const v = url.searchParams.get(name);
+		if (v !== null) simulation[name] = v.slice(0, 200);
+	}
+	const attachedId = url.searchParams.get('attached');
+	const attached = attachedId ? traces.find((t) => t.id === attachedId) : undefined;
+	return {
+		entry: { id: entry.id, title: entry.title },
+		traces: traces.map(traceJson),
+		maxBytes: MAX_TRACE_BYTES,
+		simulation,
+		attached: attached ? { id: attached.id, label: attached.label, class: attached.class } : null
+	};
 };
 
 export const actions: Actions = {
@@ -71,6 +92,27 @@ export const actions: Actions = {
 			await recordEntryChange(trx, member.orgId, entry.id, 'upsert');
 		});
 		redirect(303, `/o/${member.orgSlug}/entries/${entry.id}/edit`);
+	},
+
+	/**
+	 * The no-JavaScript simulation picker: the same check and writer as the API's `simulate` body,
+	 * then back here, where the stored trace is listed and linked to the entry page.
+	 */
+	simulate: async ({ params, request }) => {
+		const member = await requireMember(params.org, 'trace:upload');
+		const entry = await editableEntry(member, params.id);
+		const refused = (status: number, sentence: string) => fail(status, { simulation: { values: {}, fieldErrors: {}, error: { sentence, detail: null } } });
+		const body = await readBodyWithin(request, MAX_SIMULATION_FORM_BYTES);
+		if (!body) return refused(413, 'The form sent more than a simulation needs. Reload the page and fill the form again.');
+		const form = await formDataOf(request, body).catch(() => null);
+		if (!form) return refused(400, 'The simulation form did not arrive as a form. Reload the page and try again.');
+		const read = readSimulationForm(form);
+		if (!read.ok) {
+			const { status, ...failure } = read.failure;
+			return fail(status, { simulation: failure });
+		}
+		const id = await attachSimulatedReference(db, member, entry.id, read.reference);
+		redirect(303, `/o/${member.orgSlug}/entries/${entry.id}/traces/new?attached=${id}`);
 	},
 
 	/** Removes one of the entry's traces (the list's no-JavaScript delete). */

@@ -7,7 +7,7 @@ import { findEntry } from '$lib/server/entries/queries';
 import { mayEdit, readerFor } from '$lib/server/entries/rules';
 import { recordEntryChange } from '$lib/server/entries/changes';
 import { findTrace, insertTrace, listEntryTraces } from '$lib/server/traces/service';
-import { readSimulationUpload } from '$lib/server/traces/simulation';
+import { attachSimulatedReference, readSimulationUpload } from '$lib/server/traces/simulation';
 import { MAX_UPLOAD_BYTES, readCaptureUpload } from '$lib/server/traces/upload';
 import { readBodyLimited } from '$lib/server/api/body';
 import type { RequestHandler } from './$types';
@@ -54,17 +54,21 @@ export const POST: RequestHandler = async ({ params, request }) => {
 	const incoming = await readSimulationRequest(request);
 	const read = 'simulation' in incoming ? incoming.simulation : await readCaptureUpload(incoming.request);
 	if (!read.ok) return read.response;
-	const id = await db.transaction().execute(async (trx) => {
-		const traceId = await insertTrace(
-			trx,
-			member.orgId,
-			'model' in read
-				? { entryId: entry.id, role: 'known-good', label: read.label, createdBy: member.userId, processed: read.processed, model: read.model }
-				: { entryId: entry.id, role: read.upload.role, label: read.upload.label, createdBy: member.userId, processed: read.processed, file: read.file }
-		);
-		await recordEntryChange(trx, member.orgId, entry.id, 'upsert');
-		return traceId;
-	});
+	const id =
+		'model' in read
+			? await attachSimulatedReference(db, member, entry.id, read)
+			: await db.transaction().execute(async (trx) => {
+					const traceId = await insertTrace(trx, member.orgId, {
+						entryId: entry.id,
+						role: read.upload.role,
+						label: read.upload.label,
+						createdBy: member.userId,
+						processed: read.processed,
+						file: read.file
+					});
+					await recordEntryChange(trx, member.orgId, entry.id, 'upsert');
+					return traceId;
+				});
 	const trace = await findTrace(db, member.orgId, id);
 	return json(
 		{ trace: trace && traceJson(trace), canonical: { v: read.processed.curve.v, i: read.processed.curve.i } },
