@@ -322,6 +322,16 @@ export const ORG_ROUTES: OrgRoute[] = [
 	{
 		route: 'o/[org=slug]/entries/[id=uuid]/traces/new',
 		kind: 'action',
+		name: 'simulate',
+		method: 'POST',
+		action: 'entry:editAny',
+		writes: true,
+		status: 303,
+		request: (s, fx) => ({ path: `/o/${s}/entries/${fx.entryId}/traces/new?/simulate`, body: { kind: 'resistor', ohms: '4k7', sourcePeakV: '10', sourceResistanceOhm: '1k', frequencyHz: '60' } })
+	},
+	{
+		route: 'o/[org=slug]/entries/[id=uuid]/traces/new',
+		kind: 'action',
 		name: 'delete',
 		method: 'POST',
 		action: 'entry:editAny',
