@@ -55,3 +55,26 @@ test('without JavaScript an author attaches a simulated reference and sees it on
 	await expect(card).toContainText(/Parallel leakage\s*47 kΩ/);
 	await context.close();
 });
+
+test('with JavaScript the same picker predicts the curve as values are typed and attaches it through the API', async ({ page }) => {
+	await signIn(page, 'teodor.author@fernhollow.example');
+	const list = await page.request.get('/api/v1/orgs/fernhollow/entries?status=published&limit=1');
+	const entry = ((await list.json()) as { entries: { id: string }[] }).entries[0];
+	await page.goto(`/o/fernhollow/entries/${entry.id}/traces/new`);
+	const picker = page.getByTestId('simulation-picker');
+	await picker.getByLabel('Component').selectOption('winding');
+	// The fields follow the choice at once; the no-script button is not there.
+	await expect(picker.getByRole('button', { name: "Show this part's values" })).toHaveCount(0);
+	await picker.getByLabel('Winding resistance (Ω)').fill('x');
+	await expect(picker.getByLabel('Winding resistance (Ω)')).toHaveAccessibleDescription('“x” is not a value. Write it like 4k7, 2.2u, 100n or 0.001 (Ω).');
+	await picker.getByLabel('Winding resistance (Ω)').fill('100');
+	// 1 H with 100 Ω in series at 60 Hz: XL = 2πfL ≈ 377 Ω, so it reads as an inductor (an ellipse).
+	const preview = picker.getByTestId('simulation-preview');
+	await expect(preview.getByTestId('analysis-class')).toHaveText('Inductive');
+	await expect(preview).toContainText(/Inductance\s*1 H/);
+	const label = `L2 winding, script ${Date.now().toString(36)}`;
+	await picker.getByLabel('Label (optional)').fill(label);
+	await picker.getByRole('button', { name: 'Attach as known-good (simulated)' }).click();
+	await expect(picker.getByRole('status')).toHaveText('Attached the simulated known-good reference.');
+	await expect(page.getByTestId('trace-list').getByTestId('trace-row').filter({ hasText: label })).toContainText('Inductive');
+});
