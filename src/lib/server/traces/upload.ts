@@ -2,7 +2,10 @@ import { traceUpload, type TraceUpload } from '../../schemas/entries';
 import { isSignatureError } from '../../signature/errors';
 import { apiError, toApiIssues } from '../api/errors';
 import { formDataOf, readBodyLimited } from '../api/body';
-import { MAX_TRACE_BYTES, processCapture, type ProcessedTrace } from './service';
+import type { Kysely } from 'kysely';
+import type { Database } from '../db/connect';
+import { recordEntryChange } from '../entries/changes';
+import { insertTrace, MAX_TRACE_BYTES, processCapture, type ProcessedTrace } from './service';
 
 /** Room for the form fields around the largest capture file. */
 export const MAX_UPLOAD_BYTES = MAX_TRACE_BYTES + 64 * 1024;
@@ -68,4 +71,29 @@ export async function readCaptureUpload(request: Request): Promise<UploadResult>
 			})
 		};
 	}
+}
+
+/**
+ * Stores a read capture as a trace of the entry and tells the match and search indexes, in one
+ * transaction (the API and the no-script page both use this; simulated references have
+ * `attachSimulatedReference`). Returns the trace id.
+ */
+export async function attachUploadedTrace(
+	db: Kysely<Database>,
+	member: { orgId: string; userId: string },
+	entryId: string,
+	read: Extract<UploadResult, { ok: true }>
+): Promise<string> {
+	return db.transaction().execute(async (trx) => {
+		const traceId = await insertTrace(trx, member.orgId, {
+			entryId,
+			role: read.upload.role,
+			label: read.upload.label,
+			createdBy: member.userId,
+			processed: read.processed,
+			file: read.file
+		});
+		await recordEntryChange(trx, member.orgId, entryId, 'upsert');
+		return traceId;
+	});
 }

@@ -5,9 +5,9 @@ import { recordEntryChange } from '$lib/server/entries/changes';
 import { traceJson } from '$lib/server/entries/json';
 import { findEntry } from '$lib/server/entries/queries';
 import { mayEdit, readerFor } from '$lib/server/entries/rules';
-import { deleteTrace, findTrace, insertTrace, listEntryTraces, MAX_TRACE_BYTES } from '$lib/server/traces/service';
+import { deleteTrace, findTrace, listEntryTraces, MAX_TRACE_BYTES } from '$lib/server/traces/service';
 import { attachSimulatedReference, readSimulationForm } from '$lib/server/traces/simulation';
-import { MAX_UPLOAD_BYTES, readCaptureUpload } from '$lib/server/traces/upload';
+import { attachUploadedTrace, MAX_UPLOAD_BYTES, readCaptureUpload } from '$lib/server/traces/upload';
 import { formDataOf, readBodyWithin } from '$lib/server/api/body';
 import { uuid } from '$lib/schemas/traces';
 import { SIMULATION_FIELDS } from '$lib/traces/simulation';
@@ -80,17 +80,7 @@ export const actions: Actions = {
 			});
 		}
 		await copy.body?.cancel();
-		await db.transaction().execute(async (trx) => {
-			await insertTrace(trx, member.orgId, {
-				entryId: entry.id,
-				role: read.upload.role,
-				label: read.upload.label,
-				createdBy: member.userId,
-				processed: read.processed,
-				file: read.file
-			});
-			await recordEntryChange(trx, member.orgId, entry.id, 'upsert');
-		});
+		await attachUploadedTrace(db, member, entry.id, read);
 		redirect(303, `/o/${member.orgSlug}/entries/${entry.id}/edit`);
 	},
 

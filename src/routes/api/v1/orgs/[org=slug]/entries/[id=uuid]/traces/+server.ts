@@ -5,10 +5,9 @@ import { db } from '$lib/server/db';
 import { traceJson } from '$lib/server/entries/json';
 import { findEntry } from '$lib/server/entries/queries';
 import { mayEdit, readerFor } from '$lib/server/entries/rules';
-import { recordEntryChange } from '$lib/server/entries/changes';
-import { findTrace, insertTrace, listEntryTraces } from '$lib/server/traces/service';
+import { findTrace, listEntryTraces } from '$lib/server/traces/service';
 import { attachSimulatedReference, readSimulationUpload } from '$lib/server/traces/simulation';
-import { MAX_UPLOAD_BYTES, readCaptureUpload } from '$lib/server/traces/upload';
+import { attachUploadedTrace, MAX_UPLOAD_BYTES, readCaptureUpload } from '$lib/server/traces/upload';
 import { readBodyLimited } from '$lib/server/api/body';
 import type { RequestHandler } from './$types';
 
@@ -57,18 +56,7 @@ export const POST: RequestHandler = async ({ params, request }) => {
 	const id =
 		'model' in read
 			? await attachSimulatedReference(db, member, entry.id, read)
-			: await db.transaction().execute(async (trx) => {
-					const traceId = await insertTrace(trx, member.orgId, {
-						entryId: entry.id,
-						role: read.upload.role,
-						label: read.upload.label,
-						createdBy: member.userId,
-						processed: read.processed,
-						file: read.file
-					});
-					await recordEntryChange(trx, member.orgId, entry.id, 'upsert');
-					return traceId;
-				});
+			: await attachUploadedTrace(db, member, entry.id, read);
 	const trace = await findTrace(db, member.orgId, id);
 	return json(
 		{ trace: trace && traceJson(trace), canonical: { v: read.processed.curve.v, i: read.processed.curve.i } },
