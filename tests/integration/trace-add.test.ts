@@ -93,6 +93,13 @@ describe('the no-JavaScript add-trace form', () => {
 		const value = r && 'value' in r && typeof r.value === 'number' ? r.value : NaN;
 		expect(value).toBeGreaterThan(2200 * 0.98);
 		expect(value).toBeLessThan(2200 * 1.02);
+
+		// Back in the editor, the list shows the new trace in the page itself (no script needed).
+		const editor = await fetch(`${app.url}${res.location}`, { headers: { cookie: who.author.cookie } });
+		const html = await editor.text();
+		expect(editor.status).toBe(200);
+		expect(html).toContain('R7 as found');
+		expect(html).toContain('r7.csv');
 	});
 
 	it('sends a refused capture back with its plain sentence and the typed fields kept, storing nothing', async () => {

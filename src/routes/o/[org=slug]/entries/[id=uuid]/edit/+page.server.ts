@@ -5,13 +5,14 @@ import { can } from '$lib/server/auth/permissions';
 import { findUserById } from '$lib/server/auth/users';
 import { db } from '$lib/server/db';
 import { type EditorFailure, parseEntryFields, storedVersionOf } from '$lib/server/entries/editor';
-import { reviewEventJson } from '$lib/server/entries/json';
+import { reviewEventJson, traceJson } from '$lib/server/entries/json';
 import { findEntry } from '$lib/server/entries/queries';
 import { renderEntryParts } from '$lib/server/entries/render';
 import { changeEntryStatus } from '$lib/server/entries/review';
 import { listReviewEvents } from '$lib/server/entries/review-history';
 import { mayEdit, maySeeReview, readerFor, TRANSITION_MESSAGES } from '$lib/server/entries/rules';
 import { updateEntry } from '$lib/server/entries/service';
+import { listEntryTraces } from '$lib/server/traces/service';
 import type { Actions, PageServerLoad } from './$types';
 
 const LOCKED_MESSAGE = 'You can change only your own drafts. Ask an author if this entry needs a change.';
@@ -39,6 +40,8 @@ export const load: PageServerLoad = async ({ params }) => {
 		review: entry.reviewComment ? { comment: entry.reviewComment, by: reviewer?.name ?? reviewer?.email ?? 'An author' } : null,
 		reviewHistory: maySeeReview(member, entry) ? (await listReviewEvents(db, member.orgId, entry.id)).map(reviewEventJson) : [],
 		preview: renderEntryParts(entry, member.orgSlug),
+		// The trace list renders from the page itself, so it shows without JavaScript too.
+		traces: (await listEntryTraces(db, member.orgId, entry.id)).map(traceJson),
 		maySubmit: editable && entry.status === 'draft' && (entry.authorId === member.userId || can(member.role, 'entry:editAny')),
 		isAuthor: can(member.role, 'entry:review')
 	};
