@@ -44,8 +44,7 @@ export default {
 				'3xl': ['2.375rem', { lineHeight: '2.8rem' }]
 			},
 			spacing: {
-				gutter: '1.25rem', // page side padding on small screens
-				shell: '4rem' // height of the top bar
+				gutter: '1.25rem' // page side padding on small screens
 			},
 			maxWidth: {
 				content: '72rem' // widest text column
