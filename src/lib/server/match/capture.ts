@@ -52,6 +52,19 @@ export async function matchCapture(
 		});
 }
 
+/** What the match screen and the API say about the capture itself: its reading and canonical curve. */
+export function captureSummary(p: ProcessedTrace) {
+	return {
+		format: p.format,
+		samples: p.sampleCount,
+		periods: p.curve.periods,
+		conditions: p.conditions,
+		analysis: p.analysis,
+		warnings: p.warnings,
+		canonical: { v: p.curve.v, i: p.curve.i }
+	};
+}
+
 /** The fix as one plain line for a result card (the entry page renders the full Markdown). */
 export function fixSummary(markdown: string, max = 180): string {
 	const text = stripMarkdown(markdown).replace(/\s+/g, ' ').trim();

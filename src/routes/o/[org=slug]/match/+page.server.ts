@@ -6,6 +6,7 @@ import { db } from '$lib/server/db';
 import { readerFor } from '$lib/server/entries/rules';
 import { matchIndexes } from '$lib/server/match';
 import {
+	captureSummary,
 	countMatchableTraces,
 	findMatchPreference,
 	fixSummary,
@@ -54,20 +55,10 @@ export const actions: Actions = {
 				role: read.options.traceRole
 			}
 		});
-		const p = read.processed;
 		return {
 			values: read.values,
 			carried: read.carried,
-			capture: {
-				fileName: read.file.name,
-				format: p.format,
-				samples: p.sampleCount,
-				periods: p.curve.periods,
-				conditions: p.conditions,
-				analysis: p.analysis,
-				warnings: p.warnings,
-				canonical: { v: p.curve.v, i: p.curve.i }
-			},
+			capture: { fileName: read.file.name, ...captureSummary(read.processed) },
 			cards: cards.map((c) => ({ ...c, entry: { ...c.entry, fix: fixSummary(c.entry.fix) } }))
 		};
 	},

@@ -5,7 +5,7 @@ import { requireMember } from '$lib/server/auth/guard';
 import { can } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
 import { matchIndexes } from '$lib/server/match';
-import { matchCapture } from '$lib/server/match/capture';
+import { captureSummary, matchCapture } from '$lib/server/match/capture';
 import { insertTrace } from '$lib/server/traces/service';
 import { readCaptureUpload } from '$lib/server/traces/upload';
 import type { RequestHandler } from './$types';
@@ -36,18 +36,8 @@ export const POST: RequestHandler = async ({ params, request, url }) => {
 			file: read.file
 		});
 	}
-	const p = read.processed;
 	return json({
-		capture: {
-			format: p.format,
-			samples: p.sampleCount,
-			periods: p.curve.periods,
-			conditions: p.conditions,
-			analysis: p.analysis,
-			warnings: p.warnings,
-			canonical: { v: p.curve.v, i: p.curve.i },
-			savedTraceId
-		},
+		capture: { ...captureSummary(read.processed), savedTraceId },
 		matches,
 		empty: matches.length === 0 ? 'No stored traces to compare with yet. Publish entries with traces, or widen the filters.' : null
 	});
